@@ -1,0 +1,99 @@
+/**
+ * Shared vocabulary of the analysis core: ranges, findings, directives.
+ * Nothing here knows about LSP, VS Code, the file system or processes; the CLI and the
+ * language server convert these types at their own edges.
+ */
+
+/** A position in a source text. Both fields are 0-based (as in tree-sitter); reports add 1. */
+export interface Pos {
+  line: number;
+  col: number;
+}
+
+/** A half-open source range [start, end). */
+export interface Range {
+  start: Pos;
+  end: Pos;
+}
+
+export type Severity = 'error' | 'warning' | 'info' | 'hint';
+
+/** Finding codes are fixed by shared/contracts/findings.md; never rename one. */
+export type FindingCode =
+  | 'transfer-in-time-loop'
+  | 'implicit-transfer'
+  | 'stale-on-host'
+  | 'stale-on-device'
+  | 'already-present'
+  | 'update-wider-than-needed'
+  | 'exceeds-device-memory'
+  | 'loop-carried-dependence'
+  | 'missing-reduction'
+  | 'unknown-extent'
+  | 'directive-syntax';
+
+export interface Finding {
+  code: FindingCode;
+  severity: Severity;
+  range: Range;
+  message: string;
+  array?: string;
+}
+
+export type DirectiveFamily = 'openacc' | 'openmp';
+export type SourceLanguage = 'c' | 'cpp' | 'fortran';
+
+/** One array section subscript: C `lo:len`, Fortran `lo:hi`, or a single index. */
+export interface SectionDim {
+  /** Raw expression text of the lower bound; undefined when omitted (`:len`, `:`). */
+  lower?: string;
+  /** C only: raw expression text of the length. */
+  length?: string;
+  /** Fortran only: raw expression text of the inclusive upper bound. */
+  upper?: string;
+  /** True for a plain index (`a[i]`, `a(i)`) rather than a `:` triplet. */
+  single?: boolean;
+}
+
+/** A variable named in a clause, possibly with an array section. */
+export interface VarRef {
+  name: string;
+  /** Empty for a bare name (the whole variable). Outermost bracket first as written. */
+  dims: SectionDim[];
+  range: Range;
+  /** Original text, e.g. `a[0:N][1:M-2]`. */
+  text: string;
+}
+
+export interface Clause {
+  /** Lower-case clause name as written, normalised: `pcopy` stays `pcopy`; see `canonical`. */
+  name: string;
+  /** Canonical name: OpenACC `pcopy`/`present_or_copy` → `copy`, etc. */
+  canonical: string;
+  range: Range;
+  /** Raw text between the parentheses, if the clause has them. */
+  args?: string;
+  /** Variables for data clauses, map, update motion clauses, private/firstprivate/reduction, etc. */
+  vars?: VarRef[];
+  /** OpenMP map type: to, from, tofrom, alloc, release, delete (default tofrom). */
+  mapType?: string;
+  /** OpenMP map-type modifiers: always, close, present, ompx_hold... as written. */
+  mapModifiers?: string[];
+  /** Reduction operator as written: + * max min & | ^ && || iand ior ieor .and. .or. .eqv. .neqv. */
+  reductionOp?: string;
+  /** Single-argument clauses (collapse, default, if, async, num_gangs, device_type ...): trimmed text. */
+  value?: string;
+}
+
+export interface Directive {
+  family: DirectiveFamily;
+  /** Normalised construct words joined by one space, e.g. `parallel loop`, `enter data`, `target teams distribute parallel for`. */
+  construct: string;
+  /** True for a Fortran `!$acc end …` / `!$omp end …` line; `construct` then holds what it ends. */
+  isEnd: boolean;
+  clauses: Clause[];
+  /** The whole directive, sentinel to last character, including continuation lines. */
+  range: Range;
+  /** Source text of the directive with continuations joined by one space. */
+  text: string;
+}
