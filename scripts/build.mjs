@@ -21,6 +21,9 @@ await build({
   sourcemap: true,
   // The grammar loader resolves .wasm files from the installed npm packages at run time.
   external: ['web-tree-sitter', 'tree-sitter-c', 'tree-sitter-cpp'],
+  // The sources use import.meta.url (ESM); the CommonJS bundle derives it from __filename.
+  define: { 'import.meta.url': 'importMetaUrl' },
+  banner: { js: "const importMetaUrl = require('url').pathToFileURL(__filename).href;" },
   logLevel: 'warning',
 });
 console.log('build: server/dist/cli.js');

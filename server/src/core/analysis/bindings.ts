@@ -1,0 +1,76 @@
+/**
+ * Which value each size symbol has. Sources, strongest first: the user's own bindings (CLI
+ * `--bind`, editor settings), the procedure's literal initialisations, call sites that all pass
+ * the same value for a parameter, and the file's macros, constants and enumerators.
+ */
+import * as S from '../symbolic';
+import type { Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
+import { toSymbolic, walkStatements } from '../model/values';
+
+export type BindingMap = Map<string, S.Expr>;
+
+/** Bindings visible inside one procedure. */
+export function procedureBindings(model: ProgramModel, proc: Procedure | undefined, user: ReadonlyMap<string, number>, callSite: Map<string, BindingMap>): BindingMap {
+  const out: BindingMap = new Map(model.bindings);
+  if (proc) {
+    for (const [k, v] of callSite.get(proc.name) ?? []) out.set(k, v);
+    for (const [k, v] of proc.bindings) out.set(k, v);
+  }
+  for (const [k, v] of user) out.set(k, S.num(v));
+  return out;
+}
+
+/**
+ * Binds scalar parameters of procedures whose every call site in the file passes the same
+ * value (after the caller's own bindings). A parameter passed different values stays symbolic:
+ * a single number would be wrong for some of the calls.
+ */
+export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
+  const byName = new Map(model.procedures.map((p) => [p.name, p]));
+  const seen = new Map<string, (S.Expr | undefined)[][]>();
+  for (const caller of model.procedures) {
+    const local: BindingMap = new Map([...model.bindings, ...caller.bindings]);
+    const record = (name: string, args: VExpr[]): void => {
+      const callee = byName.get(name);
+      if (!callee || callee === caller) return;
+      const values = args.map((a) => {
+        const e = toSymbolic(a);
+        return e ? S.substitute(e, local) : undefined;
+      });
+      const list = seen.get(name) ?? [];
+      list.push(values);
+      seen.set(name, list);
+    };
+    walkStatements(caller.body, (s: Stmt) => {
+      if (s.kind === 'call') record(s.name, s.args);
+    });
+  }
+  const out = new Map<string, BindingMap>();
+  for (const [name, calls] of seen) {
+    const callee = byName.get(name)!;
+    const b: BindingMap = new Map();
+    callee.params.forEach((p, i) => {
+      if (p.isArray) return;
+      const first = calls[0][i];
+      if (first && calls.every((c) => c[i] && S.equals(c[i]!, first))) b.set(p.name, first);
+    });
+    out.set(name, b);
+  }
+  return out;
+}
+
+/** A quantity as the report shows it: the symbolic form, its value when bound, and what is unbound. */
+export interface Quantity {
+  value: number | null;
+  expr: string;
+  unbound?: string[];
+}
+
+/** `display` is an equivalent, more readable form of `e` (a factored product), when the caller has one. */
+export function quantity(e: S.Expr, bindings: BindingMap, display?: string): Quantity {
+  const value = S.evaluate(e, bindings);
+  const expr = display ?? S.toString(e);
+  if (value !== undefined) return { value, expr };
+  const unbound = S.freeSymbols(S.substitute(e, bindings));
+  return { value: null, expr, unbound };
+}

@@ -1,0 +1,136 @@
+/**
+ * The one entry point of the analysis core: source text in, model + ledgers + findings out.
+ * The CLI, the language server and the tests all call `analyzeSource`. It never throws: an
+ * internal failure is returned as `internalErrors` beside whatever was built before it.
+ */
+import type { Parser } from 'web-tree-sitter';
+import * as S from './symbolic';
+import type { ProgramModel } from './model/program';
+import { buildCModel } from './frontend/c';
+import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
+import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
+import type { DirectiveFamily, Finding, SourceLanguage } from './types';
+
+export interface AnalyzeInput {
+  path: string;
+  text: string;
+  language: SourceLanguage;
+}
+
+export interface AnalyzeDeps {
+  /** A tree-sitter parser for C/C++; undefined for languages with their own reader. */
+  parserFor(language: SourceLanguage): Parser | undefined;
+}
+
+export interface AnalyzeOptions {
+  /** The user's size bindings (`--bind NX=600`); they override everything the file says. */
+  bindings?: ReadonlyMap<string, number>;
+}
+
+export interface NestReport {
+  nest: LoopNest;
+  iterations: Quantity;
+  /** True when a bound depends on an outer loop variable, so the count is an approximation. */
+  approximate: boolean;
+}
+
+export interface TimeLoopReport {
+  timeLoop: TimeLoop;
+  steps: Quantity;
+}
+
+export interface FileAnalysis {
+  path: string;
+  language: SourceLanguage;
+  model: ProgramModel;
+  directiveFamilies: DirectiveFamily[];
+  nests: NestReport[];
+  timeLoops: TimeLoopReport[];
+  findings: Finding[];
+  internalErrors: string[];
+}
+
+export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
+  const result: FileAnalysis = {
+    path: input.path,
+    language: input.language,
+    model: emptyModel(input),
+    directiveFamilies: [],
+    nests: [],
+    timeLoops: [],
+    findings: [],
+    internalErrors: [],
+  };
+  try {
+    const parser = deps.parserFor(input.language);
+    if (parser) result.model = buildCModel(parser, input.text, input.path, input.language);
+    result.findings.push(...result.model.findings);
+    result.directiveFamilies = [...new Set(result.model.directives.map((d) => d.family))].sort();
+    const user = options.bindings ?? new Map<string, number>();
+    const callSite = callSiteBindings(result.model);
+    const bindingsOf = new Map<string, BindingMap>();
+    const bind = (nest: { procedure: { name: string } }): BindingMap => {
+      const name = nest.procedure.name;
+      let b = bindingsOf.get(name);
+      if (!b) {
+        b = procedureBindings(result.model, result.model.procedures.find((p) => p.name === name), user, callSite);
+        bindingsOf.set(name, b);
+      }
+      return b;
+    };
+    const scan = scanLoops(result.model);
+    for (const nest of scan.nests) {
+      const it = nestIterations(nest);
+      result.nests.push({ nest, iterations: quantity(it.expr, bind(nest), it.display), approximate: it.triangular });
+    }
+    for (const tl of scan.timeLoops) {
+      const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
+      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)) });
+    }
+    result.findings.push(...unknownExtentFindings(result));
+  } catch (err) {
+    result.internalErrors.push(err instanceof Error ? `${err.message}\n${err.stack ?? ''}` : String(err));
+  }
+  result.findings.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
+  return result;
+}
+
+function emptyModel(input: AnalyzeInput): ProgramModel {
+  return {
+    path: input.path,
+    language: input.language,
+    layout: input.language === 'fortran' ? 'column-major' : 'row-major',
+    procedures: [],
+    globals: [],
+    bindings: new Map(),
+    floatConstants: new Map(),
+    directives: [],
+    findings: [],
+  };
+}
+
+/**
+ * One `unknown-extent` finding per unbound symbol, at its first use, naming every loop it leaves
+ * symbolic and how to bind it. One finding per symbol (not per loop) keeps the list readable.
+ */
+function unknownExtentFindings(a: FileAnalysis): Finding[] {
+  const uses = new Map<string, { lines: number[]; first: NestReport | TimeLoopReport }>();
+  const note = (sym: string, line: number, r: NestReport | TimeLoopReport): void => {
+    const u = uses.get(sym) ?? { lines: [], first: r };
+    u.lines.push(line);
+    uses.set(sym, u);
+  };
+  for (const r of a.nests) for (const s of r.iterations.unbound ?? []) note(s, r.nest.root.keywordRange.start.line + 1, r);
+  for (const r of a.timeLoops) for (const s of r.steps.unbound ?? []) note(s, r.timeLoop.loop.keywordRange.start.line + 1, r);
+  const out: Finding[] = [];
+  for (const [sym, u] of uses) {
+    const loop = 'nest' in u.first ? u.first.nest.root : u.first.timeLoop.loop;
+    const lines = [...new Set(u.lines)];
+    const where = `${lines.length === 1 ? 'the loop at line' : `${lines.length} loops (lines`} ${lines.join(', ')}${lines.length === 1 ? '' : ')'}`;
+    const how = sym.startsWith('trips_L')
+      ? `The trip count of the loop at line ${sym.slice(7)} cannot be read from its header (a while loop or non-affine bounds), so ${where} stay symbolic; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
+      : `\`${sym}\` has no value the tool can see, so the trip counts of ${where} stay symbolic; bind it with \`--bind ${sym}=<value>\` (or the size-bindings setting), or give it a \`#define\`, \`const\` or literal initialisation.`;
+    out.push({ code: 'unknown-extent', severity: 'info', range: loop.keywordRange, message: how });
+  }
+  return out;
+}

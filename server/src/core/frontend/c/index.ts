@@ -1,0 +1,223 @@
+/**
+ * C and C++ front end: a tree-sitter syntax tree in, the language-neutral program model out.
+ * The parser is passed in by the caller (the grammar loader lives outside the core), so this
+ * module does no I/O.
+ */
+import type { Parser } from 'web-tree-sitter';
+import * as S from '../../symbolic';
+import type { Declaration, ElementType, Procedure, ProgramModel } from '../../model/program';
+import { walkStatements } from '../../model/values';
+import { toSymbolic } from '../../model/values';
+import type { Directive, Finding, SourceLanguage } from '../../types';
+import { CExpressionBuilder, numberLiteral } from './expressions';
+import { readDeclaration } from './declarations';
+import { MacroTable } from './macros';
+import { type Node, field, namedChildren, rangeOf } from './nodes';
+import { CStatementBuilder } from './statements';
+
+export function buildCModel(parser: Parser, text: string, path: string, language: SourceLanguage): ProgramModel {
+  const model: ProgramModel = {
+    path,
+    language,
+    layout: 'row-major',
+    procedures: [],
+    globals: [],
+    bindings: new Map(),
+    floatConstants: new Map(),
+    directives: [],
+    findings: [],
+  };
+  const tree = parser.parse(text);
+  if (!tree) return model;
+  try {
+    new CModelBuilder(parser, text, language, model).build(tree.rootNode);
+  } finally {
+    tree.delete();
+  }
+  model.directives.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
+  return model;
+}
+
+class CModelBuilder {
+  private readonly macros = new MacroTable();
+  private readonly scope = new Map<string, Declaration>();
+  private readonly exprs: CExpressionBuilder;
+  private readonly stmts: CStatementBuilder;
+  private locals: Declaration[] = [];
+
+  constructor(
+    parser: Parser,
+    private readonly text: string,
+    language: SourceLanguage,
+    private readonly model: ProgramModel,
+  ) {
+    this.exprs = new CExpressionBuilder({
+      parser,
+      macros: this.macros,
+      elementTypeOf: (name) => this.scope.get(name)?.type,
+    });
+    const directives: Directive[] = model.directives;
+    const findings: Finding[] = model.findings;
+    this.stmts = new CStatementBuilder({
+      text,
+      language,
+      exprs: this.exprs,
+      macros: this.macros,
+      directives,
+      findings,
+      declare: (d) => {
+        this.locals.push(d);
+        this.scope.set(d.name, d);
+      },
+    });
+  }
+
+  build(root: Node): void {
+    // Macros apply to the whole file here; a macro defined after its first use is rare in stencil codes.
+    for (const def of root.descendantsOfType(['preproc_def', 'preproc_function_def'])) {
+      if (def) this.stmts.define(def);
+    }
+    this.bindMacros();
+    this.topLevel(namedChildren(root));
+    this.bindLiteralInitialisations();
+  }
+
+  private topLevel(nodes: Node[]): void {
+    for (const n of nodes) {
+      switch (n.type) {
+        case 'function_definition':
+          this.procedure(n);
+          break;
+        case 'declaration':
+          this.globalDeclaration(n);
+          break;
+        case 'preproc_call':
+          this.stmts.directive(n);
+          break;
+        case 'type_definition':
+        case 'enum_specifier':
+          this.enums(n);
+          break;
+        case 'preproc_if':
+        case 'preproc_ifdef':
+        case 'preproc_else':
+        case 'preproc_elif':
+        case 'linkage_specification':
+        case 'declaration_list':
+        case 'template_declaration':
+        case 'namespace_definition':
+        case 'class_specifier':
+        case 'struct_specifier':
+        case 'field_declaration_list':
+        case 'ERROR':
+          this.topLevel(namedChildren(n).filter((c) => c !== field(n, 'name') && c !== field(n, 'condition')));
+          break;
+        case 'expression_statement':
+          // Top-level `enum {…};` and similar appear as expression statements after parse errors.
+          this.enums(n);
+          break;
+        default:
+          break;
+      }
+    }
+  }
+
+  private globalDeclaration(n: Node): void {
+    this.enums(n);
+    for (const { decl } of readDeclaration(n, 'global', this.exprs)) {
+      this.model.globals.push(decl);
+      this.scope.set(decl.name, decl);
+    }
+  }
+
+  /** `enum { NX = 600, NY = 400 };` gives constant bindings; implicit values count up from the previous one. */
+  private enums(n: Node): void {
+    for (const list of n.descendantsOfType('enumerator_list')) {
+      if (!list) continue;
+      let next: S.Expr = S.num(0);
+      for (const e of namedChildren(list).filter((c) => c.type === 'enumerator')) {
+        const name = field(e, 'name')?.text;
+        const valueNode = field(e, 'value');
+        const value = valueNode ? toSymbolic(this.exprs.value(valueNode)) : next;
+        if (name && value) {
+          this.model.bindings.set(name, value);
+          next = S.add(value, S.num(1));
+        }
+      }
+    }
+  }
+
+  private procedure(n: Node): void {
+    let decl = field(n, 'declarator');
+    while (decl && decl.type !== 'function_declarator') decl = field(decl, 'declarator') ?? namedChildren(decl)[0];
+    if (!decl) return;
+    const nameNode = field(decl, 'declarator');
+    const name = nameNode?.text ?? '?';
+    const saved = new Map(this.scope);
+    this.locals = [];
+    const params: Declaration[] = [];
+    for (const p of namedChildren(field(decl, 'parameters') ?? decl)) {
+      if (p.type !== 'parameter_declaration') continue;
+      for (const { decl: d } of readDeclaration(p, 'param', this.exprs)) {
+        params.push(d);
+        this.scope.set(d.name, d);
+      }
+    }
+    const body = this.stmts.block(field(n, 'body'));
+    const proc: Procedure = {
+      name,
+      range: rangeOf(n),
+      nameRange: rangeOf(nameNode ?? n),
+      params,
+      locals: this.locals,
+      body,
+      bindings: new Map(),
+    };
+    this.model.procedures.push(proc);
+    this.scope.clear();
+    for (const [k, v] of saved) this.scope.set(k, v);
+  }
+
+  /** Object-like macros with an integer body become bindings; floating literals become typed constants. */
+  private bindMacros(): void {
+    for (const m of this.macros.objects.values()) {
+      if (m.body === '') continue;
+      const lit = numberLiteral(m.body.replace(/^\((.*)\)$/, '$1'));
+      if (lit.kind === 'num' && lit.isFloat && /^[-+]?[\d.]/.test(m.body.replace(/^\(/, ''))) {
+        this.model.floatConstants.set(m.name, floatType(lit.bytes ?? 8));
+        continue;
+      }
+      const tree = this.exprs.parseStandalone(m.body);
+      if (tree) this.model.bindings.set(m.name, tree);
+    }
+  }
+
+  /**
+   * Literal or constant initialisations bind a name when nothing assigns it again: `const int
+   * n = 512;`, or `int nx = NX;` never reassigned. A reassigned variable is not a constant.
+   */
+  private bindLiteralInitialisations(): void {
+    const assigned = new Map<string, number>();
+    for (const p of this.model.procedures) {
+      walkStatements(p.body, (s) => {
+        if (s.kind === 'assign' && s.target.kind === 'var') assigned.set(s.target.name, (assigned.get(s.target.name) ?? 0) + 1);
+      });
+    }
+    for (const g of this.model.globals) {
+      if (g.init && (g.isConst || !assigned.has(g.name))) this.model.bindings.set(g.name, g.init);
+    }
+    for (const p of this.model.procedures) {
+      const local = new Map<string, number>();
+      walkStatements(p.body, (s) => {
+        if (s.kind === 'assign' && s.target.kind === 'var') local.set(s.target.name, (local.get(s.target.name) ?? 0) + 1);
+      });
+      for (const d of p.locals) {
+        if (d.init && (d.isConst || (local.get(d.name) ?? 0) <= 1)) p.bindings.set(d.name, d.init);
+      }
+    }
+  }
+}
+
+function floatType(bytes: number): ElementType {
+  return { name: bytes === 4 ? 'float' : bytes === 16 ? 'long double' : 'double', bytes, isFloat: true };
+}

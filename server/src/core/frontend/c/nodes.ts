@@ -1,0 +1,48 @@
+/** Small helpers over tree-sitter nodes, shared by the C/C++ front-end files. */
+import type { Node } from 'web-tree-sitter';
+import type { Range } from '../../types';
+
+export type { Node };
+
+export function rangeOf(n: Node): Range {
+  return {
+    start: { line: n.startPosition.row, col: n.startPosition.column },
+    end: { line: n.endPosition.row, col: n.endPosition.column },
+  };
+}
+
+/** Named children, skipping comments (which tree-sitter places anywhere). */
+export function namedChildren(n: Node): Node[] {
+  const out: Node[] = [];
+  for (let i = 0; i < n.namedChildCount; i++) {
+    const c = n.namedChild(i);
+    if (c && c.type !== 'comment') out.push(c);
+  }
+  return out;
+}
+
+export function field(n: Node, name: string): Node | undefined {
+  return n.childForFieldName(name) ?? undefined;
+}
+
+/** Operator token of a binary/assignment/update/unary expression. */
+export function operatorOf(n: Node): string {
+  const op = n.childForFieldName('operator');
+  if (op) return op.text;
+  for (let i = 0; i < n.childCount; i++) {
+    const c = n.child(i);
+    if (c && !c.isNamed) return c.type;
+  }
+  return '';
+}
+
+/** Strips redundant parentheses around an expression node. */
+export function unparen(n: Node): Node {
+  let cur = n;
+  while (cur.type === 'parenthesized_expression') {
+    const inner = namedChildren(cur)[0];
+    if (!inner) break;
+    cur = inner;
+  }
+  return cur;
+}

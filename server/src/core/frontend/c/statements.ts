@@ -1,0 +1,346 @@
+/**
+ * Builds model statements from C/C++ statement nodes: loops with normalised bounds, assignments,
+ * calls, branches, and directives attached to the statement they govern.
+ */
+import * as S from '../../symbolic';
+import type { Declaration, LoopStmt, Stmt, VExpr } from '../../model/program';
+import { toSymbolic } from '../../model/values';
+import type { Directive, Finding } from '../../types';
+import { readDirective } from '../../directives/reader';
+import { isStandaloneDirective } from '../../model/directives';
+import type { CExpressionBuilder } from './expressions';
+import { normaliseName } from './expressions';
+import { readDeclaration } from './declarations';
+import { type Node, field, namedChildren, operatorOf, rangeOf, unparen } from './nodes';
+import type { MacroTable } from './macros';
+import type { SourceLanguage } from '../../types';
+
+export interface StatementContext {
+  text: string;
+  language: SourceLanguage;
+  exprs: CExpressionBuilder;
+  macros: MacroTable;
+  directives: Directive[];
+  findings: Finding[];
+  /** Receives every local declaration met in a body. */
+  declare(d: Declaration): void;
+}
+
+export class CStatementBuilder {
+  /** Loop variables of the enclosing loops, to flag triangular bounds. */
+  private readonly loopVars: string[] = [];
+
+  constructor(private readonly ctx: StatementContext) {}
+
+  /** Statements of a body node (compound statement or a single statement). */
+  block(node: Node | undefined): Stmt[] {
+    if (!node) return [];
+    if (node.type === 'compound_statement' || node.type === 'else_clause') return this.list(namedChildren(node));
+    return this.list([node]);
+  }
+
+  /** Converts a sequence of sibling nodes, attaching construct directives to the next statement. */
+  list(nodes: Node[]): Stmt[] {
+    const out: Stmt[] = [];
+    let pending: Directive[] = [];
+    for (const n of nodes) {
+      if (n.type === 'preproc_call') {
+        const d = this.directive(n);
+        if (!d) continue;
+        if (isStandaloneDirective(d)) out.push({ kind: 'directive', directive: d, range: d.range, directives: [] });
+        else pending.push(d);
+        continue;
+      }
+      if (n.type === 'preproc_def' || n.type === 'preproc_function_def') {
+        this.define(n);
+        continue;
+      }
+      const stmts = this.statement(n);
+      if (stmts.length === 0) continue;
+      if (pending.length > 0) {
+        stmts[0].directives.push(...pending);
+        pending = [];
+      }
+      out.push(...stmts);
+    }
+    for (const d of pending) {
+      this.ctx.findings.push({
+        code: 'directive-syntax',
+        severity: 'error',
+        range: d.range,
+        message: `\`${d.construct}\` must be followed by the statement it applies to (a loop or a structured block); nothing follows it here.`,
+      });
+    }
+    return out;
+  }
+
+  /** Reads a `#pragma` line; non-offload pragmas (`#pragma once`, `#pragma GCC …`) give undefined. */
+  directive(n: Node): Directive | undefined {
+    const dir = field(n, 'directive');
+    if (!dir || dir.text.replace(/\s+/g, '') !== '#pragma') return undefined;
+    const arg = field(n, 'argument');
+    if (!arg || !/^\s*(acc|omp)\b/.test(arg.text)) return undefined;
+    const slice = this.ctx.text.slice(n.startIndex, arg.endIndex);
+    const result = readDirective(slice, { line: n.startPosition.row, col: n.startPosition.column }, this.ctx.language);
+    this.ctx.findings.push(...result.findings);
+    if (result.directive) this.ctx.directives.push(result.directive);
+    return result.directive;
+  }
+
+  define(n: Node): void {
+    const name = field(n, 'name')?.text;
+    const body = field(n, 'value')?.text ?? '';
+    if (!name) return;
+    const params = n.type === 'preproc_function_def'
+      ? namedChildren(field(n, 'parameters') ?? n).filter((p) => p.type === 'identifier').map((p) => p.text)
+      : undefined;
+    this.ctx.macros.define(name, body.trim(), params);
+  }
+
+  statement(n: Node): Stmt[] {
+    const range = rangeOf(n);
+    switch (n.type) {
+      case 'compound_statement':
+        return [{ kind: 'block', body: this.block(n), range, directives: [] }];
+      case 'expression_statement': {
+        const e = namedChildren(n)[0];
+        return e ? this.expressionStatement(e) : [];
+      }
+      case 'declaration':
+        return this.declaration(n);
+      case 'for_statement':
+        return [this.forLoop(n)];
+      case 'for_range_loop':
+        return [this.loopWithoutBounds(n, field(n, 'declarator')?.text, field(n, 'body'))];
+      case 'while_statement':
+      case 'do_statement':
+        return [this.loopWithoutBounds(n, undefined, field(n, 'body'))];
+      case 'if_statement': {
+        const cond = field(n, 'condition');
+        const condNode = cond ? unparen(cond) : undefined;
+        const alt = field(n, 'alternative');
+        return [{
+          kind: 'if',
+          condition: this.ctx.exprs.value(condNode),
+          conditionText: condNode?.text ?? '',
+          then: this.block(field(n, 'consequence')),
+          otherwise: alt ? this.block(alt.type === 'else_clause' ? namedChildren(alt)[0] : alt) : [],
+          range,
+          directives: [],
+        }];
+      }
+      case 'preproc_if':
+      case 'preproc_ifdef': {
+        // Only the first branch is analysed: it is the configuration the file defines by default.
+        const inner = namedChildren(n).filter((c) => c !== field(n, 'name') && c !== field(n, 'condition') && c !== field(n, 'alternative'));
+        return [{ kind: 'block', body: this.list(inner), range, directives: [] }];
+      }
+      case 'labeled_statement':
+        return this.list(namedChildren(n).filter((c) => c.type !== 'statement_identifier'));
+      case 'return_statement': {
+        const v = namedChildren(n)[0];
+        return [{ kind: 'other', text: n.text, values: v ? [this.ctx.exprs.value(v)] : [], range, directives: [] }];
+      }
+      case 'ERROR':
+        // Tree-sitter keeps what it could read inside an error node; analyse the readable parts.
+        return this.list(namedChildren(n));
+      default:
+        return [{ kind: 'other', text: n.text, values: [], range, directives: [] }];
+    }
+  }
+
+  private expressionStatement(e: Node): Stmt[] {
+    const range = rangeOf(e);
+    const node = unparen(e);
+    if (node.type === 'comma_expression') {
+      return [...this.expressionStatement(field(node, 'left') ?? node), ...this.expressionStatement(field(node, 'right') ?? node)];
+    }
+    if (node.type === 'assignment_expression') {
+      const left = field(node, 'left');
+      const op = operatorOf(node);
+      const value = this.ctx.exprs.value(field(node, 'right'));
+      return [this.assignment(left, op, value, range)];
+    }
+    if (node.type === 'update_expression') {
+      const op = operatorOf(node) === '--' ? '-=' : '+=';
+      return [this.assignment(field(node, 'argument'), op, { kind: 'num', text: '1', isFloat: false }, range)];
+    }
+    if (node.type === 'call_expression') {
+      const v = this.ctx.exprs.value(node);
+      if (v.kind === 'call') {
+        const argsNode = field(node, 'arguments');
+        return [{ kind: 'call', name: v.name, args: v.args, argText: namedChildren(argsNode ?? node).map((a) => a.text), range, directives: [] }];
+      }
+      return [{ kind: 'other', text: e.text, values: [v], range, directives: [] }];
+    }
+    return [{ kind: 'other', text: e.text, values: [this.ctx.exprs.value(node)], range, directives: [] }];
+  }
+
+  private assignment(left: Node | undefined, op: string, value: VExpr, range: Stmt['range']): Stmt {
+    const l = left ? unparen(left) : undefined;
+    if (l?.type === 'subscript_expression') {
+      const access = this.ctx.exprs.access(l, true, op !== '=');
+      if (access) return { kind: 'assign', target: { kind: 'index', access }, op, value, range, directives: [] };
+    }
+    if (l?.type === 'pointer_expression') {
+      // `*p = v` writes element 0 of p; model it as an access so coherence analyses see the write.
+      const base = field(l, 'argument');
+      const name = base ? normaliseName(unparen(base).text) : '?';
+      const zero: VExpr = { kind: 'num', text: '0', isFloat: false };
+      const access = { array: name, subscripts: [S.num(0)], subscriptText: ['0'], subscriptValues: [zero], isWrite: true, isRead: op !== '=', range: rangeOf(l) };
+      return { kind: 'assign', target: { kind: 'index', access }, op, value, range, directives: [] };
+    }
+    return { kind: 'assign', target: { kind: 'var', name: l ? normaliseName(l.text) : '?' }, op, value, range, directives: [] };
+  }
+
+  private declaration(n: Node): Stmt[] {
+    const out: Stmt[] = [];
+    for (const { decl, init } of readDeclaration(n, 'local', this.ctx.exprs)) {
+      this.ctx.declare(decl);
+      if (!init || init.type === 'initializer_list' || init.type === 'argument_list') continue;
+      const value = this.ctx.exprs.value(init);
+      out.push({ kind: 'assign', target: { kind: 'var', name: decl.name }, op: '=', value, range: rangeOf(n), directives: [] });
+    }
+    return out;
+  }
+
+  private loopWithoutBounds(n: Node, variable: string | undefined, body: Node | undefined): LoopStmt {
+    const header = this.ctx.text.slice(n.startIndex, body ? body.startIndex : n.endIndex).trim();
+    const kw = n.child(0);
+    return {
+      kind: 'loop',
+      variable,
+      header,
+      keywordRange: kw ? rangeOf(kw) : rangeOf(n),
+      body: this.block(body),
+      range: rangeOf(n),
+      directives: [],
+    };
+  }
+
+  /**
+   * Reads `for (init; cond; update)` into inclusive bounds and a positive step. Decreasing loops
+   * are normalised to the same increasing range, since every analysis here is order-independent.
+   */
+  private forLoop(n: Node): LoopStmt {
+    const body = field(n, 'body');
+    const loop = this.loopWithoutBounds(n, undefined, undefined);
+    const init = readInit(field(n, 'initializer'), this.ctx.exprs);
+    const stepInfo = readStep(field(n, 'update'), this.ctx.exprs);
+    const variable = init?.variable ?? stepInfo?.variable;
+    loop.variable = variable;
+    if (variable) {
+      this.ctx.declare({ name: variable, type: { name: 'int', bytes: 4, isFloat: false }, dims: [], isPointer: false, isArray: false, isConst: false, scope: 'local', range: loop.range });
+    }
+    const cond = readCondition(field(n, 'condition'), variable, this.ctx.exprs);
+    if (init && stepInfo && cond && variable && init.variable === stepInfo.variable) {
+      const increasing = stepInfo.sign > 0;
+      const bound = cond.bound;
+      let lower: S.Expr | undefined;
+      let upper: S.Expr | undefined;
+      if (increasing && (cond.op === '<' || cond.op === '!=')) { lower = init.start; upper = S.sub(bound, S.num(1)); }
+      else if (increasing && cond.op === '<=') { lower = init.start; upper = bound; }
+      else if (!increasing && cond.op === '>') { upper = init.start; lower = S.add(bound, S.num(1)); }
+      else if (!increasing && cond.op === '>=') { upper = init.start; lower = bound; }
+      if (lower && upper) {
+        loop.lower = lower;
+        loop.upper = upper;
+        loop.step = stepInfo.step;
+        loop.tripCount = S.tripCount(lower, upper, stepInfo.step);
+        const mentioned = new Set([...S.freeSymbols(lower), ...S.freeSymbols(upper)]);
+        loop.triangular = this.loopVars.some((v) => mentioned.has(v)) || undefined;
+      }
+    }
+    loop.header = this.ctx.text.slice(n.startIndex, body ? body.startIndex : n.endIndex).trim();
+    this.loopVars.push(variable ?? '');
+    try {
+      loop.body = this.block(body);
+    } finally {
+      this.loopVars.pop();
+    }
+    return loop;
+  }
+}
+
+function readInit(node: Node | undefined, exprs: CExpressionBuilder): { variable: string; start: S.Expr } | undefined {
+  if (!node) return undefined;
+  let name: Node | undefined;
+  let value: Node | undefined;
+  if (node.type === 'declaration') {
+    const d = namedChildren(node).find((c) => c.type === 'init_declarator');
+    name = d ? field(d, 'declarator') : undefined;
+    value = d ? field(d, 'value') : undefined;
+  } else if (node.type === 'assignment_expression' && operatorOf(node) === '=') {
+    name = field(node, 'left');
+    value = field(node, 'right');
+  } else if (node.type === 'comma_expression') {
+    return readInit(field(node, 'left'), exprs);
+  }
+  if (!name || !value || name.type !== 'identifier') return undefined;
+  const start = toSymbolic(exprs.value(value));
+  return start ? { variable: name.text, start } : undefined;
+}
+
+function readStep(node: Node | undefined, exprs: CExpressionBuilder): { variable: string; step: S.Expr; sign: 1 | -1 } | undefined {
+  if (!node) return undefined;
+  const n = unparen(node);
+  if (n.type === 'update_expression') {
+    const arg = field(n, 'argument');
+    if (arg?.type !== 'identifier') return undefined;
+    return { variable: arg.text, step: S.num(1), sign: operatorOf(n) === '--' ? -1 : 1 };
+  }
+  if (n.type === 'assignment_expression') {
+    const left = field(n, 'left');
+    const right = field(n, 'right');
+    if (left?.type !== 'identifier' || !right) return undefined;
+    const op = operatorOf(n);
+    if (op === '+=' || op === '-=') {
+      const s = toSymbolic(exprs.value(right));
+      if (!s) return undefined;
+      return signed(left.text, op === '+=' ? s : S.neg(s));
+    }
+    if (op === '=') {
+      // `i = i + s` or `i = i - s`
+      const v = toSymbolic(exprs.value(right));
+      if (!v) return undefined;
+      const parts = S.affine(v, [left.text]);
+      const coeff = parts?.coeffs.get(left.text);
+      if (!parts || !coeff || S.constValue(coeff) !== 1) return undefined;
+      return signed(left.text, parts.rest);
+    }
+  }
+  if (n.type === 'comma_expression') return readStep(field(n, 'left'), exprs);
+  return undefined;
+}
+
+function signed(variable: string, delta: S.Expr): { variable: string; step: S.Expr; sign: 1 | -1 } | undefined {
+  const c = S.constValue(delta);
+  if (c === undefined) return { variable, step: delta, sign: 1 };
+  if (c === 0) return undefined;
+  return c > 0 ? { variable, step: S.num(c), sign: 1 } : { variable, step: S.num(-c), sign: -1 };
+}
+
+const mirror: Record<string, string> = { '<': '>', '<=': '>=', '>': '<', '>=': '<=', '!=': '!=' };
+
+function readCondition(node: Node | undefined, variable: string | undefined, exprs: CExpressionBuilder): { op: string; bound: S.Expr } | undefined {
+  if (!node || !variable) return undefined;
+  const n = unparen(node);
+  if (n.type !== 'binary_expression') return undefined;
+  const op = operatorOf(n);
+  if (!(op in mirror)) return undefined;
+  const left = field(n, 'left');
+  const right = field(n, 'right');
+  if (!left || !right) return undefined;
+  const lv = unparen(left);
+  const rv = unparen(right);
+  if (lv.type === 'identifier' && lv.text === variable) {
+    const bound = toSymbolic(exprs.value(rv));
+    return bound ? { op, bound } : undefined;
+  }
+  if (rv.type === 'identifier' && rv.text === variable) {
+    const bound = toSymbolic(exprs.value(lv));
+    return bound ? { op: mirror[op], bound } : undefined;
+  }
+  return undefined;
+}
+

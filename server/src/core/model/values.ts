@@ -1,0 +1,170 @@
+/**
+ * Helpers over value expressions (VExpr): conversion to symbolic integer quantities and walks
+ * that collect array accesses. Language-neutral: both front ends produce VExpr.
+ */
+import * as S from '../symbolic';
+import type { ArrayAccess, Stmt, VExpr } from './program';
+
+const intLiteral = /^(0[xX][0-9a-fA-F]+|\d+)([uUlL]*|_\w+)$/;
+
+/** Reads an integer literal in C (`10`, `0x1F`, `10UL`) or Fortran (`10`, `10_8`) spelling. */
+export function integerLiteral(text: string): number | undefined {
+  const m = intLiteral.exec(text.trim());
+  if (!m) return undefined;
+  const v = Number(m[1]);
+  return Number.isSafeInteger(v) ? v : undefined;
+}
+
+/**
+ * Converts a value expression to a symbolic integer quantity, or undefined when it is not an
+ * integer expression we can represent (floating literals, array reads, conditionals).
+ */
+export function toSymbolic(e: VExpr): S.Expr | undefined {
+  switch (e.kind) {
+    case 'num': {
+      if (e.isFloat) return undefined;
+      const v = integerLiteral(e.text);
+      return v === undefined ? undefined : S.num(v);
+    }
+    case 'var':
+      return S.sym(e.name);
+    case 'cast':
+      return e.type.isFloat ? undefined : toSymbolic(e.operand);
+    case 'unary': {
+      const x = toSymbolic(e.operand);
+      if (!x) return undefined;
+      if (e.op === '-') return S.neg(x);
+      if (e.op === '+') return x;
+      return undefined;
+    }
+    case 'bin': {
+      const l = toSymbolic(e.left);
+      const r = toSymbolic(e.right);
+      if (!l || !r) return undefined;
+      switch (e.op) {
+        case '+': return S.add(l, r);
+        case '-': return S.sub(l, r);
+        case '*': return S.mul(l, r);
+        case '/': return S.floorDiv(l, r);
+        case '%': return S.mod(l, r);
+        case '**': {
+          const k = S.constValue(r);
+          if (k === undefined || !Number.isInteger(k) || k < 0 || k > 8) return undefined;
+          return S.mul(...Array.from({ length: k }, () => l), S.num(1));
+        }
+        case '<<': {
+          const k = S.constValue(r);
+          return k !== undefined && Number.isInteger(k) && k >= 0 && k < 31 ? S.mul(l, S.num(2 ** k)) : undefined;
+        }
+        default: return undefined;
+      }
+    }
+    case 'call': {
+      const args = e.args.map(toSymbolic);
+      if (args.some((a) => a === undefined)) return undefined;
+      const xs = args as S.Expr[];
+      const name = e.name.toLowerCase();
+      if ((name === 'min' || name === 'fmin') && xs.length === 2) return S.min(xs[0], xs[1]);
+      if ((name === 'max' || name === 'fmax') && xs.length === 2) return S.max(xs[0], xs[1]);
+      if (name === 'mod' && xs.length === 2) return S.mod(xs[0], xs[1]);
+      return S.call(e.name, xs);
+    }
+    default:
+      return undefined;
+  }
+}
+
+/** Visits every array access inside a value expression, including accesses nested in subscripts. */
+export function forEachAccessInValue(e: VExpr, visit: (a: ArrayAccess) => void): void {
+  switch (e.kind) {
+    case 'index':
+      visit(e.access);
+      for (const s of e.access.subscriptValues) forEachAccessInValue(s, visit);
+      return;
+    case 'bin':
+      forEachAccessInValue(e.left, visit);
+      forEachAccessInValue(e.right, visit);
+      return;
+    case 'unary':
+    case 'cast':
+      forEachAccessInValue(e.operand, visit);
+      return;
+    case 'call':
+      for (const a of e.args) forEachAccessInValue(a, visit);
+      return;
+    case 'cond':
+      forEachAccessInValue(e.test, visit);
+      forEachAccessInValue(e.then, visit);
+      forEachAccessInValue(e.else, visit);
+      return;
+    default:
+      return;
+  }
+}
+
+/** Every array access made by one statement itself (not by nested statements). */
+export function accessesOfStatement(s: Stmt): ArrayAccess[] {
+  const out: ArrayAccess[] = [];
+  const visit = (a: ArrayAccess): void => { out.push(a); };
+  switch (s.kind) {
+    case 'assign':
+      if (s.target.kind === 'index') {
+        out.push(s.target.access);
+        for (const v of s.target.access.subscriptValues) forEachAccessInValue(v, visit);
+      }
+      forEachAccessInValue(s.value, visit);
+      break;
+    case 'call':
+      for (const a of s.args) forEachAccessInValue(a, visit);
+      break;
+    case 'if':
+      forEachAccessInValue(s.condition, visit);
+      break;
+    case 'other':
+      for (const v of s.values) forEachAccessInValue(v, visit);
+      break;
+    default:
+      break;
+  }
+  return out;
+}
+
+/** Children statements of a statement, in source order. */
+export function childStatements(s: Stmt): Stmt[] {
+  switch (s.kind) {
+    case 'loop':
+    case 'block':
+      return s.body;
+    case 'if':
+      return [...s.then, ...s.otherwise];
+    default:
+      return [];
+  }
+}
+
+/** Depth-first walk over statements; `visit` returning false skips the children. */
+export function walkStatements(stmts: readonly Stmt[], visit: (s: Stmt) => boolean | void): void {
+  for (const s of stmts) {
+    if (visit(s) === false) continue;
+    walkStatements(childStatements(s), visit);
+  }
+}
+
+/** Prints a value expression in C-like notation for messages (fully parenthesised where needed). */
+export function printValue(e: VExpr): string {
+  switch (e.kind) {
+    case 'num': return e.text;
+    case 'var': return e.name;
+    case 'opaque': return e.text;
+    case 'index': return `${e.access.array}[${e.access.subscriptValues.map(printValue).join('][')}]`;
+    case 'bin': return `${wrap(e.left)} ${e.op} ${wrap(e.right)}`;
+    case 'unary': return `${e.op}${wrap(e.operand)}`;
+    case 'cast': return `(${e.type.name})${wrap(e.operand)}`;
+    case 'call': return `${e.name}(${e.args.map(printValue).join(', ')})`;
+    case 'cond': return `${wrap(e.test)} ? ${wrap(e.then)} : ${wrap(e.else)}`;
+  }
+}
+
+function wrap(e: VExpr): string {
+  return e.kind === 'bin' || e.kind === 'cond' ? `(${printValue(e)})` : printValue(e);
+}
