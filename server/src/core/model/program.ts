@@ -88,6 +88,12 @@ export interface LoopStmt extends StmtBase {
   body: Stmt[];
   /** Set when bounds depend on an enclosing loop variable (triangular); trip count is then approximate. */
   triangular?: boolean;
+  /**
+   * Set for loops the front end made itself from array syntax (Fortran `a(2:n-1) = …`, whole-array
+   * `h = h + dt*f`, `where`): they have synthetic induction variables and no keyword of their own,
+   * so `keywordRange` is the statement's range.
+   */
+  implied?: boolean;
 }
 
 export interface AssignStmt extends StmtBase {
