@@ -100,7 +100,8 @@ function read(text: string, origin: Pos, language: SourceLanguage): ReadResult {
     isEnd: head.isEnd,
     clauses,
     range: { start: src.start, end: src.pos[src.body.length] },
-    text: src.head + src.body,
+    // A fixed-form `0` in column 6 is dropped from the body; keep the words apart in the text.
+    text: src.head + (src.body === '' || isSpace(src.body[0]) ? '' : ' ') + src.body,
   };
   return { directive, findings: ctx.findings };
 }

@@ -30,8 +30,8 @@ export function parseVarList(ctx: ReadCtx, from: number, to: number): VarRef[] {
   items.forEach((raw, k) => {
     const item = trimSpan(s, raw);
     if (item.start === item.end) {
-      // Point at the comma that has nothing on one side of it.
-      const comma = k > 0 ? raw.start - 1 : raw.end;
+      // Point at the extra comma: the one after the gap, or the trailing one at the end of the list.
+      const comma = k < items.length - 1 ? raw.end : raw.start - 1;
       report(ctx, comma, comma + 1, 'empty item in the variable list');
       return;
     }

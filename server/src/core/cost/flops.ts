@@ -1,0 +1,134 @@
+/**
+ * Floating-point operation counts. The convention (common practice, as in the STREAM and
+ * roofline literature): each floating-point `+ - * /` is one flop; integer index arithmetic
+ * never counts; an operation whose operands are all literals is folded by the compiler and
+ * counts zero; a fused multiply-add `fma(a,b,c)` is two. Math library calls count by the table
+ * below, which is this tool's documented convention (docs/cost-model.md), not a measurement.
+ */
+import type { ElementType, VExpr } from '../model/program';
+import type { Scope } from './scope';
+
+/**
+ * Flop weight of math functions. sqrt and division-like calls count as one operation (the
+ * convention of counting operations, not cycles); transcendental functions count as the
+ * length of a typical polynomial evaluation, about 10 multiply-adds → 20 flops (from memory:
+ * vector libm kernels evaluate degree ~8–12 polynomials after range reduction).
+ */
+export const MATH_FLOPS: Readonly<Record<string, number>> = {
+  sqrt: 1, sqrtf: 1, cbrt: 20, cbrtf: 20,
+  fabs: 0, fabsf: 0, abs: 0, dabs: 0,
+  fmin: 1, fminf: 1, fmax: 1, fmaxf: 1, min: 1, max: 1, amin1: 1, amax1: 1, dmin1: 1, dmax1: 1,
+  fma: 2, fmaf: 2,
+  exp: 20, expf: 20, dexp: 20, log: 20, logf: 20, dlog: 20, log10: 20, log2: 20,
+  sin: 20, sinf: 20, dsin: 20, cos: 20, cosf: 20, dcos: 20, tan: 20, tanf: 20,
+  sinh: 20, cosh: 20, tanh: 20, tanhf: 20, atan: 20, atan2: 20, asin: 20, acos: 20,
+  pow: 40, powf: 40, erf: 20, erff: 20,
+  floor: 0, ceil: 0, round: 0, trunc: 0, copysign: 0, sign: 0,
+  real: 0, dble: 0, float: 0, sngl: 0, int: 0, nint: 0,
+};
+
+export interface FlopCount {
+  flops: number;
+  /** Math functions met that the table does not list (counted as zero, named in the report). */
+  unknownCalls: string[];
+}
+
+/** Whether an expression has a floating-point type (C usual arithmetic conversions, simplified). */
+export function isFloatValue(e: VExpr, scope: Scope): boolean {
+  return typeOfValue(e, scope)?.isFloat ?? false;
+}
+
+export function typeOfValue(e: VExpr, scope: Scope): ElementType | undefined {
+  switch (e.kind) {
+    case 'num':
+      return e.isFloat ? { name: e.bytes === 4 ? 'float' : 'double', bytes: e.bytes ?? 8, isFloat: true } : undefined;
+    case 'var':
+      return scope.typeOf(e.name);
+    case 'index':
+      return scope.typeOf(e.access.array);
+    case 'cast':
+      return e.type;
+    case 'unary':
+      return ['!', '.not.'].includes(e.op) ? undefined : typeOfValue(e.operand, scope);
+    case 'bin': {
+      if (isComparison(e.op)) return undefined;
+      const l = typeOfValue(e.left, scope);
+      const r = typeOfValue(e.right, scope);
+      if (l?.isFloat && r?.isFloat) return l.bytes >= r.bytes ? l : r;
+      return l?.isFloat ? l : r?.isFloat ? r : l ?? r;
+    }
+    case 'cond': {
+      const a = typeOfValue(e.then, scope);
+      return a?.isFloat ? a : typeOfValue(e.else, scope);
+    }
+    case 'call': {
+      const name = e.name.toLowerCase();
+      if (name in MATH_FLOPS && !['int', 'nint', 'floor', 'ceil'].includes(name)) {
+        const args = e.args.map((a) => typeOfValue(a, scope)).filter((t): t is ElementType => !!t?.isFloat);
+        return args[0] ?? { name: 'double', bytes: 8, isFloat: true };
+      }
+      return undefined;
+    }
+    default:
+      return undefined;
+  }
+}
+
+function isComparison(op: string): boolean {
+  return ['<', '>', '<=', '>=', '==', '!=', '&&', '||', '.lt.', '.gt.', '.le.', '.ge.', '.eq.', '.ne.', '.and.', '.or.', '/='].includes(op.toLowerCase());
+}
+
+/** True when every leaf is a literal or a named floating constant, so the compiler folds it. */
+function isConstantFolded(e: VExpr, scope: Scope): boolean {
+  switch (e.kind) {
+    case 'num': return true;
+    case 'var': {
+      const d = scope.lookup(e.name);
+      return (!d && scope.typeOf(e.name) !== undefined) || (!!d && d.isConst && !d.isArray && d.init !== undefined);
+    }
+    case 'bin': return isConstantFolded(e.left, scope) && isConstantFolded(e.right, scope);
+    case 'unary':
+    case 'cast': return isConstantFolded(e.operand, scope);
+    default: return false;
+  }
+}
+
+export function countFlops(e: VExpr, scope: Scope, acc: FlopCount = { flops: 0, unknownCalls: [] }): FlopCount {
+  if (isConstantFolded(e, scope)) return acc;
+  switch (e.kind) {
+    case 'bin':
+      countFlops(e.left, scope, acc);
+      countFlops(e.right, scope, acc);
+      if (['+', '-', '*', '/'].includes(e.op) && isFloatValue(e, scope)) acc.flops += 1;
+      return acc;
+    case 'unary':
+    case 'cast':
+      return countFlops(e.operand, scope, acc);
+    case 'cond':
+      countFlops(e.test, scope, acc);
+      // Both branches are typically evaluated by vectorised code (a select), so both count.
+      countFlops(e.then, scope, acc);
+      countFlops(e.else, scope, acc);
+      return acc;
+    case 'index':
+      // Subscripts are integer index arithmetic; reads inside them (a[idx[i]]) cost bytes, not flops.
+      return acc;
+    case 'call': {
+      for (const a of e.args) countFlops(a, scope, acc);
+      const name = e.name.toLowerCase();
+      const w = MATH_FLOPS[name];
+      if (w !== undefined) acc.flops += w;
+      else if (isFloatValue(e, scope) || e.args.some((a) => isFloatValue(a, scope))) acc.unknownCalls.push(e.name);
+      return acc;
+    }
+    default:
+      return acc;
+  }
+}
+
+/** Flops of an assignment: the right-hand side, plus one for a compound `+= -= *= /=` on a floating target. */
+export function assignmentFlops(op: string, target: VExpr, value: VExpr, scope: Scope): FlopCount {
+  const c = countFlops(value, scope);
+  if (op.length === 2 && '+-*/'.includes(op[0]) && op[1] === '=' && isFloatValue(target, scope)) c.flops += 1;
+  return c;
+}

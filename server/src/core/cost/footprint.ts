@@ -1,0 +1,153 @@
+/**
+ * Stencil footprint of a loop nest: for each array, the dimensions the nest walks (after
+ * turning linearised subscripts such as `(k*NY + j)*NX + i` back into dimensions by their
+ * strides), the constant neighbour offsets per dimension, the radius, and whether the array is
+ * read, written or updated in place.
+ */
+import * as S from '../symbolic';
+import type { ArrayAccess, Declaration, Layout } from '../model/program';
+
+export interface AccessOffsets {
+  isRead: boolean;
+  isWrite: boolean;
+  /** Offset per dimension, contiguous dimension first; undefined when not a constant. */
+  offsets?: number[];
+}
+
+export interface ArrayFootprint {
+  array: string;
+  elementBytes: number;
+  /** Nest variables the array's subscripts move with, contiguous dimension first. */
+  variables: string[];
+  /** Element stride of each of those dimensions (1 for the contiguous one). */
+  strides: S.Expr[];
+  accesses: AccessOffsets[];
+  /** Largest |offset| per dimension over all accesses with constant offsets. */
+  radius: number[];
+  reads: number;
+  writes: number;
+  /** Read and written in the same nest (an in-place update such as `u[i] += …`). */
+  inPlace: boolean;
+  /** Some access could not be read as affine in the nest variables (indirect or non-linear). */
+  irregular: boolean;
+}
+
+/**
+ * The linear element offset of an access from the array's first element, using the declared
+ * shape: row-major for C (last subscript contiguous), column-major for Fortran (first
+ * subscript contiguous, minus its lower bound). Arrays of unknown shape get symbolic strides.
+ */
+export function linearise(subscripts: S.Expr[], decl: Declaration | undefined, layout: Layout, array: string): S.Expr {
+  const m = subscripts.length;
+  if (m === 1) return subscripts[0];
+  const dims = decl && decl.dims.length === m ? decl.dims : undefined;
+  const extent = (d: number): S.Expr => dims?.[d] ?? S.sym(`extent(${array},${d + 1})`);
+  const terms: S.Expr[] = [];
+  if (layout === 'row-major') {
+    let stride = S.num(1);
+    for (let d = m - 1; d >= 0; d--) {
+      terms.push(S.mul(subscripts[d], stride));
+      stride = S.mul(stride, extent(d));
+    }
+  } else {
+    let stride = S.num(1);
+    for (let d = 0; d < m; d++) {
+      const lower = decl?.lowerBounds?.[d] ?? S.num(1);
+      terms.push(S.mul(S.sub(subscripts[d], lower), stride));
+      stride = S.mul(stride, extent(d));
+    }
+  }
+  return S.add(...terms);
+}
+
+/**
+ * Builds the footprint of one array from its accesses in a nest. `subscriptsOf` gives each
+ * access's subscripts with the procedure's bindings already substituted.
+ */
+export function arrayFootprint(
+  array: string,
+  accesses: { access: ArrayAccess; subscripts: (S.Expr | undefined)[] }[],
+  nestVars: string[],
+  decl: Declaration | undefined,
+  layout: Layout,
+  elementBytes: number,
+): ArrayFootprint {
+  const fp: ArrayFootprint = {
+    array, elementBytes, variables: [], strides: [], accesses: [], radius: [],
+    reads: 0, writes: 0, inPlace: false, irregular: false,
+  };
+  const forms: { a: ArrayAccess; coeffs: Map<string, S.Expr>; rest: S.Expr }[] = [];
+  for (const { access, subscripts } of accesses) {
+    if (access.isRead) fp.reads++;
+    if (access.isWrite) fp.writes++;
+    if (subscripts.length === 0 || subscripts.some((s) => !s)) {
+      fp.irregular = true;
+      fp.accesses.push({ isRead: access.isRead, isWrite: access.isWrite });
+      continue;
+    }
+    const linear = linearise(subscripts as S.Expr[], decl, layout, array);
+    const parts = S.affine(linear, nestVars);
+    if (!parts) {
+      fp.irregular = true;
+      fp.accesses.push({ isRead: access.isRead, isWrite: access.isWrite });
+      continue;
+    }
+    forms.push({ a: access, coeffs: parts.coeffs, rest: parts.rest });
+  }
+  fp.inPlace = fp.reads > 0 && fp.writes > 0;
+  if (forms.length === 0) return fp;
+  // Dimensions are the nest variables with a non-zero stride, ordered by stride (contiguous first).
+  const probe = probeValues(forms.flatMap((f) => [...f.coeffs.values(), f.rest]));
+  const ref = forms[0];
+  const vars = nestVars.filter((v) => {
+    const c = ref.coeffs.get(v);
+    return c && S.constValue(c) !== 0;
+  });
+  vars.sort((x, y) => Math.abs(S.evaluate(ref.coeffs.get(x)!, probe) ?? 0) - Math.abs(S.evaluate(ref.coeffs.get(y)!, probe) ?? 0));
+  fp.variables = vars;
+  fp.strides = vars.map((v) => ref.coeffs.get(v)!);
+  const strideValues = fp.strides.map((s) => S.evaluate(s, probe) ?? NaN);
+  fp.radius = vars.map(() => 0);
+  for (const f of forms) {
+    const samePattern = vars.every((v, d) => S.equals(f.coeffs.get(v) ?? S.num(0), fp.strides[d]))
+      && nestVars.every((v) => vars.includes(v) || S.constValue(f.coeffs.get(v) ?? S.num(0)) === 0);
+    const offsets = samePattern ? decompose(S.evaluate(f.rest, probe), strideValues) : undefined;
+    if (!offsets) fp.irregular = fp.irregular || !samePattern;
+    fp.accesses.push({ isRead: f.a.isRead, isWrite: f.a.isWrite, offsets });
+    offsets?.forEach((o, d) => { fp.radius[d] = Math.max(fp.radius[d], Math.abs(o)); });
+  }
+  return fp;
+}
+
+/**
+ * Values for unbound symbols used only to split an offset into per-dimension parts: large,
+ * distinct and far apart, so that `NX + 1` (one row and one column) can never be confused with
+ * another small combination. The split is exact for offsets much smaller than these values.
+ */
+function probeValues(exprs: S.Expr[]): Map<string, number> {
+  const out = new Map<string, number>();
+  let next = 10_007;
+  for (const e of exprs) {
+    for (const s of S.freeSymbols(e)) {
+      if (!out.has(s)) {
+        out.set(s, next);
+        next += 1_009;
+      }
+    }
+  }
+  return out;
+}
+
+/** Splits a linear offset into per-dimension offsets by strides (largest first, rounding to nearest). */
+function decompose(offset: number | undefined, strides: number[]): number[] | undefined {
+  if (offset === undefined || strides.some((s) => !Number.isFinite(s) || s === 0)) return undefined;
+  const out = strides.map(() => 0);
+  let rest = offset;
+  for (let d = strides.length - 1; d >= 0; d--) {
+    const q = Math.round(rest / strides[d]);
+    out[d] = q;
+    rest -= q * strides[d];
+  }
+  if (strides.length === 0) return rest === 0 ? [] : undefined;
+  return rest === 0 ? out : undefined;
+}
