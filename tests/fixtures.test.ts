@@ -12,6 +12,7 @@ import { ROOT, analyzeText } from './helpers';
 interface Expected {
   source: string;
   bindings?: Record<string, number>;
+  cacheBytes?: number;
   loops?: Record<string, unknown>[];
   timeLoops?: { line: number; variable?: string; steps?: Record<string, unknown> }[];
   findings?: { code: string; line: number; severity?: string; mentions?: string }[];
@@ -26,7 +27,7 @@ function expectedFiles(dir: string): string[] {
 async function check(expectedPath: string): Promise<void> {
   const want = JSON.parse(readFileSync(expectedPath, 'utf8')) as Expected;
   const src = join(ROOT, want.source);
-  const analysis = await analyzeText(readFileSync(src, 'utf8'), src, want.bindings);
+  const analysis = await analyzeText(readFileSync(src, 'utf8'), src, want.bindings, want.cacheBytes);
   expect(analysis.internalErrors).toEqual([]);
   const got = fileReport(analysis) as { loops: Record<string, unknown>[]; findings: Record<string, unknown>[] };
   if (want.loops) {

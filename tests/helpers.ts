@@ -18,9 +18,9 @@ export async function grammarsForTests(): Promise<Grammars> {
   return grammars;
 }
 
-export async function analyzeText(text: string, path = 'test.c', bindings?: Record<string, number>): Promise<FileAnalysis> {
+export async function analyzeText(text: string, path = 'test.c', bindings?: Record<string, number>, cacheBytes?: number): Promise<FileAnalysis> {
   const g = await grammarsForTests();
-  return analyzeSource({ path, text, language: languageOfPath(path) ?? 'c' }, g, { bindings: new Map(Object.entries(bindings ?? {})) });
+  return analyzeSource({ path, text, language: languageOfPath(path) ?? 'c' }, g, { bindings: new Map(Object.entries(bindings ?? {})), cacheBytes });
 }
 
 export async function analyzeFile(path: string): Promise<FileAnalysis> {

@@ -20,7 +20,7 @@ export function formatFile(a: FileAnalysis): string {
   if (a.nests.length === 0) {
     lines.push('  no loop nests found');
   } else {
-    const rows = [['line', 'function', 'variables', 'offloaded', 'iterations']];
+    const rows = [['line', 'function', 'variables', 'offloaded', 'flop/it', 'B/it dev', 'B/it host', 'AI dev', 'AI host', 'iterations']];
     for (const r of a.nests) {
       const n = r.nest;
       rows.push([
@@ -28,6 +28,11 @@ export function formatFile(a: FileAnalysis): string {
         n.procedure.name,
         n.variables.join(','),
         n.offload ? `yes (${n.offload.family})` : 'no',
+        fmt(r.cost.flopsPerIteration),
+        fmt(r.cost.bytes.device),
+        fmt(r.cost.bytes.host),
+        r.cost.intensity.device === undefined ? '-' : r.cost.intensity.device.toFixed(2),
+        r.cost.intensity.host === undefined ? '-' : r.cost.intensity.host.toFixed(2),
         formatQuantity(r.iterations) + (r.approximate ? ' (approx., triangular)' : ''),
       ]);
     }
@@ -42,4 +47,8 @@ export function formatFile(a: FileAnalysis): string {
   }
   for (const e of a.internalErrors) lines.push(`  internal error (please report): ${e.split('\n')[0]}`);
   return lines.join('\n');
+}
+
+function fmt(x: number): string {
+  return Number.isInteger(x) ? String(x) : x.toFixed(2);
 }

@@ -9,6 +9,7 @@ import type { ProgramModel } from './model/program';
 import { buildCModel } from './frontend/c';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
+import { type NestCost, nestCost } from './cost/ledger';
 import type { DirectiveFamily, Finding, SourceLanguage } from './types';
 
 export interface AnalyzeInput {
@@ -25,13 +26,21 @@ export interface AnalyzeDeps {
 export interface AnalyzeOptions {
   /** The user's size bindings (`--bind NX=600`); they override everything the file says. */
   bindings?: ReadonlyMap<string, number>;
+  /**
+   * Host cache available to one run, for the layer condition. Default 2 MiB: a core's share of
+   * a server CPU's L2 plus L3 is about 1.5–4 MiB (from memory); machine profiles override it.
+   */
+  cacheBytes?: number;
 }
+
+export const DEFAULT_CACHE_BYTES = 2 * 1024 * 1024;
 
 export interface NestReport {
   nest: LoopNest;
   iterations: Quantity;
   /** True when a bound depends on an outer loop variable, so the count is an approximation. */
   approximate: boolean;
+  cost: NestCost;
 }
 
 export interface TimeLoopReport {
@@ -81,7 +90,9 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     const scan = scanLoops(result.model);
     for (const nest of scan.nests) {
       const it = nestIterations(nest);
-      result.nests.push({ nest, iterations: quantity(it.expr, bind(nest), it.display), approximate: it.triangular });
+      const iterations = quantity(it.expr, bind(nest), it.display);
+      const cost = nestCost(nest, result.model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? DEFAULT_CACHE_BYTES });
+      result.nests.push({ nest, iterations, approximate: it.triangular, cost });
     }
     for (const tl of scan.timeLoops) {
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));

@@ -26,10 +26,20 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
         offloaded: !!n.offload,
         directive: n.offload?.family ?? null,
         iterations: jsonQuantity(r.iterations),
-        // Filled by the loop cost ledger; zero means "not computed", never a measured zero.
-        flopsPerIteration: 0,
-        bytesPerIteration: { device: 0, host: 0 },
-        arithmeticIntensity: {},
+        flopsPerIteration: round(r.cost.flopsPerIteration),
+        bytesPerIteration: { device: round(r.cost.bytes.device), host: round(r.cost.bytes.host) },
+        arithmeticIntensity: intensityJson(r.cost.intensity),
+        footprint: r.cost.footprints.map((f) => ({
+          array: f.array,
+          elementBytes: f.elementBytes,
+          variables: f.variables,
+          radius: f.radius,
+          reads: f.reads,
+          writes: f.writes,
+          inPlace: f.inPlace,
+          irregular: f.irregular,
+        })),
+        layerConditions: r.cost.traffic.layerChecks.map((c) => ({ variable: c.variable, bytes: c.bytes, budget: c.budget, holds: c.holds })),
       };
     }),
     // Time loops get their per-step ledger from the data-environment analysis; until that exists
@@ -58,5 +68,17 @@ export function jsonFinding(f: Finding): Record<string, unknown> {
     message: f.message,
   };
   if (f.array) out.array = f.array;
+  return out;
+}
+
+/** Six significant digits: the inputs are estimates, and stable output keeps diffs readable. */
+function round(x: number): number {
+  return Number(x.toPrecision(6));
+}
+
+function intensityJson(i: { device?: number; host?: number }): Record<string, number> {
+  const out: Record<string, number> = {};
+  if (i.device !== undefined) out.device = round(i.device);
+  if (i.host !== undefined) out.host = round(i.host);
   return out;
 }
