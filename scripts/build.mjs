@@ -12,7 +12,7 @@ if (!existsSync(entry)) {
   process.exit(0);
 }
 await build({
-  entryPoints: { cli: entry },
+  entryPoints: { cli: entry, api: join(root, 'server/src/api.ts') },
   outdir: join(root, 'server/dist'),
   bundle: true,
   platform: 'node',
@@ -26,4 +26,4 @@ await build({
   banner: { js: "const importMetaUrl = require('url').pathToFileURL(__filename).href;" },
   logLevel: 'warning',
 });
-console.log('build: server/dist/cli.js');
+console.log('build: server/dist/cli.js, server/dist/api.js');

@@ -1,0 +1,6 @@
+/** Programmatic entry for scripts (benchmarks): the same pure core the CLI and server use. */
+export { analyzeSource, DEFAULT_CACHE_BYTES } from './core/analyze';
+export type { FileAnalysis } from './core/analyze';
+export { report } from './core/report';
+export { loadGrammars } from './grammars';
+export { languageOfPath } from './core/language';
