@@ -1,0 +1,86 @@
+/**
+ * Name scopes of a Fortran file. A scoping unit (module, main program, procedure) sees its own
+ * declarations first, then what it imports with `use`, then its host's (Fortran 2008 §16.5.1.4
+ * host association, §16.5.1.3 use association; from memory). Implicit typing follows the
+ * default rule (names starting with i–n are integer, all others real) unless `implicit none`
+ * or an `implicit` statement says otherwise.
+ */
+import type * as S from '../../symbolic';
+import type { Declaration, ElementType } from '../../model/program';
+import { ElementTypes } from '../../model/types';
+
+export type ScopeKind = 'module' | 'program' | 'procedure';
+
+interface UseLink {
+  module: Scope;
+  /** `only:` list as local name → module name; undefined imports every name. */
+  only?: Map<string, string>;
+  /** Renames outside an `only:` list, local name → module name. */
+  renames: Map<string, string>;
+}
+
+export class Scope {
+  readonly decls = new Map<string, Declaration>();
+  /** Named integer constants (`parameter`) with their symbolic values. */
+  readonly constants = new Map<string, S.Expr>();
+  /** Named constants of a floating type, for typing them in flop counts. */
+  readonly floatConstants = new Map<string, ElementType>();
+  private readonly uses: UseLink[] = [];
+  private implicitNone = false;
+  private readonly implicit = new Map<string, ElementType>();
+
+  constructor(
+    readonly kind: ScopeKind,
+    readonly name: string,
+    readonly host?: Scope,
+  ) {}
+
+  use(module: Scope, only: Map<string, string> | undefined, renames: Map<string, string>): void {
+    this.uses.push({ module, only, renames });
+  }
+
+  /** Resolves a name through local, use and host association; `pick` chooses the table. */
+  private find<T>(name: string, pick: (s: Scope) => Map<string, T>, seen: Set<Scope> = new Set()): T | undefined {
+    if (seen.has(this)) return undefined;
+    seen.add(this);
+    const own = pick(this).get(name);
+    if (own !== undefined) return own;
+    for (const u of this.uses) {
+      let remote: string | undefined = u.renames.get(name) ?? name;
+      if (u.only) remote = u.only.get(name);
+      if (remote === undefined) continue;
+      const hit = u.module.find(remote, pick, seen);
+      if (hit !== undefined) return hit;
+    }
+    return this.host?.find(name, pick, seen);
+  }
+
+  lookup(name: string): Declaration | undefined {
+    return this.find(name, (s) => s.decls);
+  }
+
+  constant(name: string): S.Expr | undefined {
+    return this.find(name, (s) => s.constants);
+  }
+
+  floatConstant(name: string): ElementType | undefined {
+    return this.find(name, (s) => s.floatConstants);
+  }
+
+  setImplicitNone(): void {
+    this.implicitNone = true;
+  }
+
+  setImplicit(from: string, to: string, type: ElementType): void {
+    for (let c = from.charCodeAt(0); c <= to.charCodeAt(0); c++) this.implicit.set(String.fromCharCode(c), type);
+  }
+
+  /** The implicit type of an undeclared name (Fortran 2008 §5.5, from memory). */
+  implicitType(name: string): ElementType {
+    const letter = name[0] ?? 'a';
+    const own = this.implicit.get(letter);
+    if (own) return own;
+    if (!this.implicitNone && this.host) return this.host.implicitType(name);
+    return /^[i-n]/.test(letter) ? ElementTypes.int : ElementTypes.float;
+  }
+}
