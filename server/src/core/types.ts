@@ -4,6 +4,8 @@
  * language server convert these types at their own edges.
  */
 
+import type { Expr } from './symbolic';
+
 /** A position in a source text. Both fields are 0-based (as in tree-sitter); reports add 1. */
 export interface Pos {
   line: number;
@@ -53,6 +55,11 @@ export interface SectionDim {
   upper?: string;
   /** True for a plain index (`a[i]`, `a(i)`) rather than a `:` triplet. */
   single?: boolean;
+  /**
+   * The bounds as symbolic quantities, filled by the front end when it can read them with the
+   * file's macros expanded (`p[IDX(i,j,k):1]`). Analyses prefer these over re-parsing the text.
+   */
+  exprs?: { lower?: Expr; length?: Expr; upper?: Expr };
 }
 
 /** A variable named in a clause, possibly with an array section. */

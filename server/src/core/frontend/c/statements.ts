@@ -83,6 +83,17 @@ export class CStatementBuilder {
     const slice = this.ctx.text.slice(n.startIndex, arg.endIndex);
     const result = readDirective(slice, { line: n.startPosition.row, col: n.startPosition.column }, this.ctx.language);
     this.ctx.findings.push(...result.findings);
+    // Section bounds may use the file's macros (`p[IDX(i,j,k):1]`); read them as C expressions here.
+    for (const c of result.directive?.clauses ?? []) {
+      for (const v of c.vars ?? []) {
+        for (const d of v.dims) {
+          d.exprs = {
+            lower: d.lower !== undefined ? this.ctx.exprs.parseStandalone(d.lower) : undefined,
+            length: d.length !== undefined ? this.ctx.exprs.parseStandalone(d.length) : undefined,
+          };
+        }
+      }
+    }
     if (result.directive) this.ctx.directives.push(result.directive);
     return result.directive;
   }
