@@ -10,6 +10,7 @@ import { buildCModel } from './frontend/c';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
+import { type TimeLoopLedger, dataLedger } from './data/ledger';
 import type { DirectiveFamily, Finding, SourceLanguage } from './types';
 
 export interface AnalyzeInput {
@@ -31,9 +32,13 @@ export interface AnalyzeOptions {
    * a server CPU's L2 plus L3 is about 1.5–4 MiB (from memory); machine profiles override it.
    */
   cacheBytes?: number;
+  /** Device memory capacity in bytes, for `exceeds-device-memory`. */
+  deviceMemoryBytes?: number;
 }
 
 export const DEFAULT_CACHE_BYTES = 2 * 1024 * 1024;
+/** Device memory for `exceeds-device-memory` until machine profiles exist: 80 GB, an HBM2e-class data-center GPU (from memory). */
+export const DEFAULT_DEVICE_MEMORY_BYTES = 80e9;
 
 export interface NestReport {
   nest: LoopNest;
@@ -46,6 +51,8 @@ export interface NestReport {
 export interface TimeLoopReport {
   timeLoop: TimeLoop;
   steps: Quantity;
+  /** The per-step data ledger; absent for a time loop nested inside another (the outer one is the step). */
+  ledger?: TimeLoopLedger;
 }
 
 export interface FileAnalysis {
@@ -79,6 +86,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     const callSite = callSiteBindings(result.model);
     const bindingsOf = new Map<string, BindingMap>();
     const bind = (nest: { procedure: { name: string } }): BindingMap => {
+      // Bindings are per procedure and built once; the ledgers ask for them many times.
       const name = nest.procedure.name;
       let b = bindingsOf.get(name);
       if (!b) {
@@ -94,9 +102,17 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       const cost = nestCost(nest, result.model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? DEFAULT_CACHE_BYTES });
       result.nests.push({ nest, iterations, approximate: it.triangular, cost });
     }
+    const strides = new Map<string, S.Expr[][]>();
+    for (const r of result.nests) {
+      for (const f of r.cost.footprints) strides.set(f.array, [...(strides.get(f.array) ?? []), f.strides]);
+    }
+    const data = dataLedger(result.model, input.text, scan.timeLoops, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? [], {
+      deviceMemoryBytes: options.deviceMemoryBytes ?? DEFAULT_DEVICE_MEMORY_BYTES,
+    });
+    result.findings.push(...data.findings);
     for (const tl of scan.timeLoops) {
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
-      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)) });
+      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger: data.ledgers.find((l) => l.loop === tl.loop) });
     }
     result.findings.push(...unknownExtentFindings(result));
   } catch (err) {

@@ -5,6 +5,7 @@
 import type { FileAnalysis } from './analyze';
 import type { Quantity } from './analysis/bindings';
 import type { Finding } from './types';
+import type { TimeLoopLedger } from './data/ledger';
 
 export const TOOL_NAME = 'offload-ledger';
 export const TOOL_VERSION = '0.1.0';
@@ -42,10 +43,36 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
         layerConditions: r.cost.traffic.layerChecks.map((c) => ({ variable: c.variable, bytes: c.bytes, budget: c.budget, holds: c.holds })),
       };
     }),
-    // Time loops get their per-step ledger from the data-environment analysis; until that exists
-    // they are not reported, because zero bytes per step would be a claim, not a gap.
-    timeLoops: [],
+    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => timeLoopJson(t.ledger!)),
     findings: a.findings.map(jsonFinding),
+  };
+}
+
+function timeLoopJson(l: TimeLoopLedger): Record<string, unknown> {
+  return {
+    line: l.loop.keywordRange.start.line + 1,
+    endLine: l.loop.range.end.line + 1,
+    function: l.procedure.name,
+    variable: l.loop.variable ?? '',
+    steps: jsonQuantity(l.steps),
+    perStep: { toDevice: jsonQuantity(l.perStep.toDevice), toHost: jsonQuantity(l.perStep.toHost) },
+    once: { toDevice: jsonQuantity(l.once.toDevice), toHost: jsonQuantity(l.once.toHost) },
+    transfers: l.transfers.map((t) => ({
+      line: t.range.start.line + 1,
+      ...(t.via.length > 0 ? { via: t.via.map((r) => r.start.line + 1) } : {}),
+      array: t.array,
+      direction: t.direction,
+      bytes: jsonQuantity(t.bytes),
+      everySteps: t.everySteps,
+      cause: t.cause,
+    })),
+    dataRegion: l.dataRegion
+      ? {
+          clauses: l.dataRegion.clauses.map((c) => (c.section ? { array: c.array, clause: c.clause, section: c.section } : { array: c.array, clause: c.clause })),
+          edits: l.dataRegion.edits,
+        }
+      : null,
+    residentBytes: l.residentBytes,
   };
 }
 

@@ -7,6 +7,29 @@ import * as S from '../symbolic';
 import type { Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { toSymbolic, walkStatements } from '../model/values';
 
+function valuesOf(s: Stmt): VExpr[] {
+  switch (s.kind) {
+    case 'assign': return [s.value];
+    case 'call': return s.args;
+    case 'if': return [s.condition];
+    case 'other': return s.values;
+    default: return [];
+  }
+}
+
+function forEachCall(e: VExpr, visit: (name: string, args: VExpr[]) => void): void {
+  switch (e.kind) {
+    case 'call':
+      visit(e.name, e.args);
+      e.args.forEach((a) => forEachCall(a, visit));
+      return;
+    case 'bin': forEachCall(e.left, visit); forEachCall(e.right, visit); return;
+    case 'unary': case 'cast': forEachCall(e.operand, visit); return;
+    case 'cond': forEachCall(e.test, visit); forEachCall(e.then, visit); forEachCall(e.else, visit); return;
+    default: return;
+  }
+}
+
 export type BindingMap = Map<string, S.Expr>;
 
 /** Bindings visible inside one procedure. */
@@ -43,6 +66,8 @@ export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
     };
     walkStatements(caller.body, (s: Stmt) => {
       if (s.kind === 'call') record(s.name, s.args);
+      // Calls inside expressions (`printf("%g", total(f, N))`) bind parameters too.
+      for (const v of valuesOf(s)) forEachCall(v, record);
     });
   }
   const out = new Map<string, BindingMap>();
@@ -67,7 +92,7 @@ export interface Quantity {
 }
 
 /** `display` is an equivalent, more readable form of `e` (a factored product), when the caller has one. */
-export function quantity(e: S.Expr, bindings: BindingMap, display?: string): Quantity {
+export function quantity(e: S.Expr, bindings: ReadonlyMap<string, S.Expr>, display?: string): Quantity {
   const value = S.evaluate(e, bindings);
   const expr = display ?? S.toString(e);
   if (value !== undefined) return { value, expr };

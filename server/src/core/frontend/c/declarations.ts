@@ -25,9 +25,8 @@ export function readDeclaration(node: Node, scope: Declaration['scope'], exprs: 
   const vector = /\bvector\s*<(.+)>/.exec(typeText);
   const type = elementTypeFromC(vector ? vector[1] : typeText);
   const out: DeclaredName[] = [];
-  for (let i = 0; i < node.namedChildCount; i++) {
-    const c = node.namedChild(i);
-    if (!c || node.fieldNameForChild(i) !== 'declarator') continue;
+  for (const c of node.childrenForFieldName('declarator')) {
+    if (!c) continue;
     const d = readDeclarator(c, type, scope, isConst, !!vector, exprs);
     if (d) out.push(d);
   }
@@ -80,7 +79,7 @@ function readDeclarator(
   };
   if (dims.length > 0) decl.elementCount = S.mul(...dims);
   if (init) {
-    const count = allocationCount(init, type, exprs);
+    const count = exprs.declaringName(name, type, () => allocationCount(init!, type, exprs));
     if (count) decl.elementCount = count;
     else if (dims.length === 0 && !isPointer) {
       const v = toSymbolic(exprs.value(init));

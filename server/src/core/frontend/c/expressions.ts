@@ -20,6 +20,8 @@ const MAX_MACRO_DEPTH = 16;
 
 export class CExpressionBuilder {
   private depth = 0;
+  /** Names being declared right now: `float *p = malloc(N * sizeof *p)` names p in its own initialiser. */
+  private readonly declaring = new Map<string, ElementType>();
 
   constructor(private readonly ctx: ExprContext) {}
 
@@ -124,6 +126,16 @@ export class CExpressionBuilder {
     return { kind: 'call', name, args: args.map((a) => this.value(a)) };
   }
 
+  /** Runs `f` with `name` known as an array of `type`, for initialisers that mention the name being declared. */
+  declaringName<T>(name: string, type: ElementType, f: () => T): T {
+    this.declaring.set(name, type);
+    try {
+      return f();
+    } finally {
+      this.declaring.delete(name);
+    }
+  }
+
   /** Parses a stand-alone expression text (a macro body) into a symbolic integer, if it is one. */
   parseStandalone(body: string): import('../../symbolic').Expr | undefined {
     const tree = this.ctx.parser.parse(`int __offload_ledger_value = (${body});`);
@@ -173,7 +185,8 @@ export class CExpressionBuilder {
           base = unparen(field(base, 'argument') ?? base);
           if (base === inner) break;
         }
-        t = this.ctx.elementTypeOf(normaliseName(base.text));
+        const name = normaliseName(base.text);
+        t = this.declaring.get(name) ?? this.ctx.elementTypeOf(name);
       }
     }
     if (!t || t.name === 'unknown') return { kind: 'call', name: 'sizeof', args: [{ kind: 'opaque', text: n.text }] };

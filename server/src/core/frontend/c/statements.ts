@@ -115,7 +115,8 @@ export class CStatementBuilder {
         return [{ kind: 'block', body: this.block(n), range, directives: [] }];
       case 'expression_statement': {
         const e = namedChildren(n)[0];
-        return e ? this.expressionStatement(e) : [];
+        // The statement's range includes its `;`, so edits can tell what else shares the line.
+        return e ? this.expressionStatement(e).map((st) => ({ ...st, range: st.range === undefined ? range : mergeEnd(st.range, range) })) : [];
       }
       case 'declaration':
         return this.declaration(n);
@@ -355,3 +356,8 @@ function readCondition(node: Node | undefined, variable: string | undefined, exp
   return undefined;
 }
 
+
+/** The statement range of a single expression statement is the expression plus its `;`. */
+function mergeEnd(inner: Stmt['range'], outer: Stmt['range']): Stmt['range'] {
+  return inner.start.line === outer.start.line && inner.start.col === outer.start.col ? outer : inner;
+}

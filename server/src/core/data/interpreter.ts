@@ -1,0 +1,607 @@
+/**
+ * Runs a procedure's statements over the abstract data environment: what is present on the
+ * device, what each construct moves across the link and when, and which side holds the newest
+ * copy of each element. Each time loop body runs twice; the second pass is the steady state and
+ * is the one recorded per step.
+ */
+import * as S from '../symbolic';
+import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
+import { isDataConstruct, isOffloadCompute } from '../model/directives';
+import { accessesOfStatement, childStatements, forEachAccessInValue, toSymbolic, walkStatements } from '../model/values';
+import type { Directive, Finding, Range } from '../types';
+import { type ArrayInfo, arrayInfo } from './arrays';
+import { type DataEntry, dataEntries, defaultMode, motionEntries, privateNames } from './clauses';
+import { periodicGuard } from './guards';
+import { type Region, covers, overlaps, regionSize, subtract, union, wholeBox } from './regions';
+import { type LoopRanges, type Section, accessRegion, clauseSection, wholeBytes } from './sections';
+import { DataEnvironment } from './state';
+
+export type Cause = 'clause' | 'implicit' | 'update' | 'enter' | 'exit';
+
+export interface TransferRecord {
+  /** The directive (or, for implicit copies, the construct's directive) that moves the data. */
+  range: Range;
+  array: string;
+  direction: 'toDevice' | 'toHost';
+  bytes: S.Expr;
+  everySteps: number;
+  cause: Cause;
+  /** Calls from the time loop's procedure that lead to the directive, outermost first. */
+  via: Range[];
+  allocation: number;
+  /** Whole-array update/clause (for messages). */
+  whole: boolean;
+}
+
+/** A host access inside the time loop to an array the device also uses. */
+export interface HostTouch {
+  key: string;
+  kind: 'read' | 'write';
+  access: ArrayAccess;
+  region: Region;
+  /** The statement of the time loop's procedure that contains the access, and its ancestors (outermost first). */
+  anchor: Stmt;
+  ancestors: Stmt[];
+  /** Host loops around the access inside the anchor, innermost last. */
+  loops: LoopStmt[];
+  /** Bindings of the frame the access is in (callee parameters resolved). */
+  bindings: Map<string, S.Expr>;
+  rename: Map<string, string>;
+}
+
+export interface TimeLoopRun {
+  loop: LoopStmt;
+  procedure: Procedure;
+  transfers: TransferRecord[];
+  /** Allocations live when the loop starts: their entry and exit transfers are the "once" traffic. */
+  liveAtEntry: Map<string, number>;
+  /** Arrays present on the device when the loop starts. */
+  presentAtEntry: Set<string>;
+  /** Arrays whose device reads in the first step need values the device has not written itself. */
+  needsHostValues: Set<string>;
+  /** Elements each array's device code writes in the first step. */
+  deviceWritten: Map<string, Region>;
+  deviceReads: Set<string>;
+  deviceWrites: Set<string>;
+  /** Every array named in a device construct or clause inside the loop. */
+  deviceUsed: Set<string>;
+  hostTouches: HostTouch[];
+  /** Arrays the host reads after the loop (they must come back). */
+  neededAfter: Set<string>;
+  /** Peak bytes resident on the device during the loop (null when a size is unbound). */
+  residentPeak: number | null;
+  residentArrays: Set<string>;
+}
+
+interface Frame {
+  proc: Procedure;
+  rename: Map<string, string>;
+  bindings: Map<string, S.Expr>;
+  via: Range[];
+  depth: number;
+}
+
+interface Ctx {
+  frame: Frame;
+  multiplier: S.Expr;
+  everySteps: number;
+  hostRanges: Map<string, [number, number]>;
+  hostLoops: LoopStmt[];
+  run?: TimeLoopRun;
+  recording: boolean;
+  anchor?: Stmt;
+  /** Set inside a host-only loop: its accesses anchor at the loop, not at its inner statements. */
+  anchorFixed?: boolean;
+  ancestors: Stmt[];
+}
+
+const MAX_CALL_DEPTH = 8;
+
+export class DataInterpreter {
+  readonly env = new DataEnvironment();
+  readonly findings: Finding[] = [];
+  readonly runs: TimeLoopRun[] = [];
+  /** Transfers outside time loops, with the allocation they belong to. */
+  readonly outside: TransferRecord[] = [];
+  private readonly infos = new Map<string, ArrayInfo>();
+  private readonly procs: Map<string, Procedure>;
+  private readonly seenFindings = new Set<string>();
+
+  constructor(
+    private readonly model: ProgramModel,
+    private readonly timeLoops: Set<LoopStmt>,
+    private readonly bindingsOf: (p: Procedure) => Map<string, S.Expr>,
+    private readonly nestStrides: (key: string) => S.Expr[][],
+  ) {
+    this.procs = new Map(model.procedures.map((p) => [p.name, p]));
+  }
+
+  runProcedure(proc: Procedure): void {
+    const frame: Frame = { proc, rename: new Map(), bindings: this.bindingsOf(proc), via: [], depth: 0 };
+    this.afterLoop = undefined;
+    this.root = frame;
+    this.exec(proc.body, { frame, multiplier: S.num(1), everySteps: 1, hostRanges: new Map(), hostLoops: [], recording: false, ancestors: [] });
+  }
+
+  // ---- names and sizes -------------------------------------------------------------------
+
+  /** The array a name refers to, in the outermost frame's names (callee locals get a qualified key). */
+  key(name: string, frame: Frame): string {
+    const mapped = frame.rename.get(name);
+    if (mapped) return mapped;
+    if (frame.depth > 0 && frame.proc.locals.some((l) => l.name === name)) return `${frame.proc.name}::${name}`;
+    return name;
+  }
+
+  /**
+   * Size and shape of an array, from the declaration that owns it: the time loop's procedure (or
+   * the file) for names of the outermost frame, the callee for a callee's own locals. A callee's
+   * parameter says nothing about size; the caller's declaration does.
+   */
+  info(key: string, frame: Frame, localName: string): ArrayInfo {
+    let i = this.infos.get(key);
+    if (!i) {
+      const sep = key.indexOf('::');
+      const owner = sep >= 0 ? this.procs.get(key.slice(0, sep)) : this.root?.proc;
+      const name = sep >= 0 ? key.slice(sep + 2) : key;
+      const decl = (owner && (owner.locals.find((d) => d.name === name) ?? owner.params.find((d) => d.name === name)))
+        ?? this.model.globals.find((d) => d.name === name)
+        ?? frame.proc.params.find((d) => d.name === localName);
+      const bindings = sep >= 0 || !this.root ? frame.bindings : this.root.bindings;
+      i = arrayInfo(key, decl, this.model.layout, bindings, this.nestStrides(name));
+      this.infos.set(key, i);
+    }
+    return i;
+  }
+
+  private localBindings(frame: Frame): Map<string, S.Expr> {
+    return new Map([...frame.bindings].filter(([k]) => !this.model.bindings.has(k)));
+  }
+
+  /** The outermost frame of the current run. */
+  private root?: Frame;
+
+  /** The info computed for an array key during the run, if it was touched. */
+  infoOf(key: string): ArrayInfo | undefined {
+    return this.infos.get(key);
+  }
+
+  private isArray(name: string, frame: Frame): boolean {
+    const d = frame.proc.locals.find((x) => x.name === name) ?? frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+    return !!d && d.isArray;
+  }
+
+  // ---- statements ----------------------------------------------------------------------
+
+  private exec(stmts: Stmt[], ctx: Ctx): void {
+    for (const s of stmts) {
+      const here: Ctx = ctx.frame.depth === 0 && ctx.run && !ctx.anchorFixed ? { ...ctx, anchor: s } : ctx;
+      this.stmt(s, here);
+    }
+  }
+
+  private stmt(s: Stmt, ctx: Ctx): void {
+    const data = s.directives.filter(isDataConstruct);
+    const entered = data.map((d) => this.enterRegion(d, ctx));
+    const compute = s.directives.find(isOffloadCompute);
+    if (compute) this.compute(s, compute, ctx);
+    else this.hostStatement(s, ctx);
+    for (let k = data.length - 1; k >= 0; k--) this.exitRegion(data[k], entered[k], ctx);
+  }
+
+  private hostStatement(s: Stmt, ctx: Ctx): void {
+    const inner: Ctx = { ...ctx, ancestors: ctx.run && ctx.frame.depth === 0 ? [...ctx.ancestors, s] : ctx.ancestors };
+    switch (s.kind) {
+      case 'directive':
+        this.standalone(s.directive, ctx);
+        return;
+      case 'block':
+        this.exec(s.body, inner);
+        return;
+      case 'if': {
+        this.hostValues([s.condition], s, ctx);
+        const timeVar = ctx.run?.loop.variable;
+        const guard = periodicGuard(s.condition, timeVar, ctx.frame.bindings);
+        let every = ctx.everySteps;
+        if (guard?.kind === 'every') every *= guard.steps;
+        if (guard?.kind === 'once' && ctx.run) every = Math.max(every, this.stepsOf(ctx.run) ?? every);
+        this.exec(s.then, { ...inner, everySteps: every });
+        this.exec(s.otherwise, inner);
+        return;
+      }
+      case 'loop':
+        if (this.timeLoops.has(s) && !ctx.run) {
+          this.timeLoop(s, ctx);
+          return;
+        }
+        if (this.containsDeviceWork(s)) {
+          const trips = s.tripCount ?? S.sym(`trips_L${s.keywordRange.start.line + 1}`);
+          const next: Ctx = { ...inner, multiplier: S.mul(ctx.multiplier, trips) };
+          this.withRange(s, next, () => this.exec(s.body, next));
+          return;
+        }
+        this.withRange(s, inner, () => this.exec(s.body, { ...inner, hostLoops: [...inner.hostLoops, s], anchorFixed: true }));
+        return;
+      case 'call':
+        this.hostValues(s.args, s, ctx);
+        this.call(s.name, s.args, s.range, ctx);
+        return;
+      default:
+        this.hostAccesses(accessesOfStatement(s), s, ctx);
+        for (const v of s.kind === 'assign' ? [s.value] : s.kind === 'other' ? s.values : []) this.callsIn(v, s.range, ctx);
+    }
+  }
+
+  private withRange(loop: LoopStmt, ctx: Ctx, body: () => void): void {
+    const v = loop.variable;
+    const lo = loop.lower ? S.evaluate(loop.lower, ctx.frame.bindings) : undefined;
+    const hi = loop.upper ? S.evaluate(loop.upper, ctx.frame.bindings) : undefined;
+    const had = v ? ctx.hostRanges.get(v) : undefined;
+    if (v && lo !== undefined && hi !== undefined && hi >= lo) ctx.hostRanges.set(v, [lo, hi]);
+    try {
+      body();
+    } finally {
+      if (v) {
+        if (had) ctx.hostRanges.set(v, had);
+        else ctx.hostRanges.delete(v);
+      }
+    }
+  }
+
+  private containsDeviceWork(loop: LoopStmt): boolean {
+    let found = false;
+    walkStatements(loop.body, (s) => {
+      if (s.directives.some((d) => isOffloadCompute(d) || isDataConstruct(d)) || s.kind === 'directive') found = true;
+      if (s.kind === 'call' && this.procs.has(s.name)) found = true;
+    });
+    return found;
+  }
+
+  private stepsOf(run: TimeLoopRun): number | undefined {
+    return run.loop.tripCount ? S.evaluate(run.loop.tripCount, this.bindingsOf(run.procedure)) : undefined;
+  }
+
+  // ---- the time loop -------------------------------------------------------------------
+
+  private timeLoop(loop: LoopStmt, ctx: Ctx): void {
+    const run: TimeLoopRun = {
+      loop, procedure: ctx.frame.proc, transfers: [], liveAtEntry: new Map(), presentAtEntry: new Set(),
+      needsHostValues: new Set(), deviceWritten: new Map(), deviceReads: new Set(), deviceWrites: new Set(), deviceUsed: new Set(),
+      hostTouches: [], neededAfter: new Set(), residentPeak: 0, residentArrays: new Set(),
+    };
+    for (const k of this.env.presentKeys()) {
+      run.presentAtEntry.add(k);
+      run.liveAtEntry.set(k, this.env.state(k).allocation);
+    }
+    this.runs.push(run);
+    const base: Ctx = { ...ctx, run, multiplier: S.num(1), everySteps: 1, ancestors: [] };
+    // First pass: the first step, which brings the environment to its steady state.
+    this.exec(loop.body, { ...base, recording: false });
+    // Second pass: the steady state, recorded per step.
+    this.exec(loop.body, { ...base, recording: true });
+    this.afterLoop = run;
+  }
+
+  /** The time loop whose "after" host reads are being collected (until the procedure ends). */
+  private afterLoop?: TimeLoopRun;
+
+  // ---- host code -----------------------------------------------------------------------
+
+  private hostValues(values: VExpr[], s: Stmt, ctx: Ctx): void {
+    const accesses: ArrayAccess[] = [];
+    for (const v of values) forEachAccessInValue(v, (a) => accesses.push(a));
+    this.hostAccesses(accesses, s, ctx);
+    for (const v of values) this.callsIn(v, s.range, ctx);
+  }
+
+  private callsIn(v: VExpr, at: Range, ctx: Ctx): void {
+    const visit = (e: VExpr): void => {
+      if (e.kind === 'call') {
+        if (this.procs.has(e.name)) this.call(e.name, e.args, at, ctx);
+        e.args.forEach(visit);
+      } else if (e.kind === 'bin') { visit(e.left); visit(e.right); }
+      else if (e.kind === 'unary' || e.kind === 'cast') visit(e.operand);
+      else if (e.kind === 'cond') { visit(e.test); visit(e.then); visit(e.else); }
+    };
+    visit(v);
+  }
+
+  private hostAccesses(accesses: ArrayAccess[], s: Stmt, ctx: Ctx): void {
+    for (const a of accesses) {
+      if (!this.isArray(a.array, ctx.frame)) continue;
+      const key = this.key(a.array, ctx.frame);
+      const info = this.info(key, ctx.frame, a.array);
+      const region = accessRegion(a, info, ctx.hostRanges, ctx.frame.bindings);
+      const st = this.env.state(key);
+      if (this.afterLoop && !ctx.run && a.isRead) this.afterLoop.neededAfter.add(key);
+      if (ctx.run && ctx.anchor && ctx.recording) {
+        const touch = { key, access: a, region, anchor: ctx.anchor, ancestors: ctx.ancestors, loops: ctx.hostLoops, bindings: ctx.frame.bindings, rename: ctx.frame.rename };
+        if (a.isRead) ctx.run.hostTouches.push({ ...touch, kind: 'read' });
+        if (a.isWrite) ctx.run.hostTouches.push({ ...touch, kind: 'write' });
+      }
+      if (!st.present) continue;
+      if (a.isRead && overlaps(st.deviceNewer, region)) {
+        this.finding('stale-on-host', a.range, key,
+          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; add \`update self\` (OpenACC) / \`target update from\` (OpenMP) for that slice just before this line.`);
+      }
+      if (a.isWrite) {
+        st.hostNewer = union(st.hostNewer, region);
+        st.deviceNewer = subtract(st.deviceNewer, region);
+      }
+    }
+  }
+
+  // ---- calls ---------------------------------------------------------------------------
+
+  private call(name: string, args: VExpr[], at: Range, ctx: Ctx): void {
+    const callee = this.procs.get(name);
+    if (!callee || ctx.frame.depth >= MAX_CALL_DEPTH || callee === ctx.frame.proc) return;
+    const rename = new Map<string, string>();
+    const bindings = new Map(this.bindingsOf(callee));
+    callee.params.forEach((p, i) => {
+      const arg = args[i];
+      if (!arg) return;
+      if (p.isArray) {
+        const base = arrayArgument(arg);
+        if (base && this.isArray(base, ctx.frame)) rename.set(p.name, this.key(base, ctx.frame));
+        return;
+      }
+      // Resolve the caller's own locals but keep the file's named sizes (`N`, not 48000000), so
+      // that sections written from the callee's view still read like the source.
+      const e = toSymbolic(arg);
+      if (e) bindings.set(p.name, S.substitute(e, this.localBindings(ctx.frame)));
+      else bindings.delete(p.name);
+    });
+    const frame: Frame = { proc: callee, rename, bindings, via: [...ctx.frame.via, at], depth: ctx.frame.depth + 1 };
+    this.exec(callee.body, { ...ctx, frame });
+  }
+
+  // ---- device constructs ---------------------------------------------------------------
+
+  private compute(s: Stmt, d: Directive, ctx: Ctx): void {
+    const entered = this.enterClauses(d, ctx, 'clause', true);
+    const named = new Set(dataEntries(d).map((e) => this.key(e.ref.name, ctx.frame)));
+    const privates = privateNames(d);
+    const mode = defaultMode(d);
+    const implicit: { key: string; section: Section; allocation: number }[] = [];
+    const ranges = deviceRanges(s, ctx.frame.bindings);
+    const reads = new Map<string, Region>();
+    const writes = new Map<string, Region>();
+    walkStatements([s], (x) => {
+      for (const a of accessesOfStatement(x)) {
+        if (!this.isArray(a.array, ctx.frame) || privates.has(a.array)) continue;
+        const key = this.key(a.array, ctx.frame);
+        const info = this.info(key, ctx.frame, a.array);
+        const region = accessRegion(a, info, ranges, ctx.frame.bindings);
+        if (a.isRead) reads.set(key, union(reads.get(key) ?? [], region));
+        if (a.isWrite) writes.set(key, union(writes.get(key) ?? [], region));
+        if (ctx.run) ctx.run.deviceUsed.add(key);
+      }
+    });
+    // Implicit data attributes for arrays named in no clause (OpenACC 3.3 §2.6.2; OpenMP 5.2 §5.8.1).
+    for (const key of new Set([...reads.keys(), ...writes.keys()])) {
+      if (named.has(key)) continue;
+      const local = localName(key, ctx.frame);
+      const info = this.info(key, ctx.frame, local);
+      const st = this.env.state(key);
+      if (st.present || mode === 'present' || mode === 'none') continue;
+      if (d.family === 'openmp' && info.decl?.isPointer) {
+        this.finding('stale-on-device', d.range, key,
+          `\`${local}\` is a pointer that no map clause names and that is not present on the device: OpenMP maps it as a zero-length array section (5.2 §5.8.1), so the device would dereference an address with no data behind it; map it here or in a \`target data\` region.`);
+        continue;
+      }
+      const section: Section = { bytes: wholeBytes(info), region: [wholeBox(info.shape)], whole: true };
+      const allocation = this.env.allocate(key);
+      st.structured++;
+      this.transfer(ctx, d.range, key, 'toDevice', section.bytes, 'implicit', allocation, true);
+      implicit.push({ key, section, allocation });
+    }
+    // Coherence: device reads of elements the host wrote since the last transfer to the device.
+    for (const [key, region] of reads) {
+      if (ctx.run) {
+        ctx.run.deviceReads.add(key);
+        if (!ctx.recording && !covers(ctx.run.deviceWritten.get(key) ?? [], region)) ctx.run.needsHostValues.add(key);
+      }
+      const st = this.env.state(key);
+      if (st.present && overlaps(st.hostNewer, region)) {
+        const info = this.info(key, ctx.frame, localName(key, ctx.frame));
+        this.finding('stale-on-device', d.range, key,
+          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; add \`update device\` (OpenACC) / \`target update to\` (OpenMP) for that slice after the host write.`);
+        st.hostNewer = subtract(st.hostNewer, region);
+      }
+    }
+    for (const [key, region] of writes) {
+      if (ctx.run) {
+        ctx.run.deviceWrites.add(key);
+        if (!ctx.recording) ctx.run.deviceWritten.set(key, union(ctx.run.deviceWritten.get(key) ?? [], region));
+      }
+      const st = this.env.state(key);
+      st.deviceNewer = union(st.deviceNewer, region);
+      st.hostNewer = subtract(st.hostNewer, region);
+    }
+    this.notePeak(ctx);
+    for (const imp of implicit.reverse()) {
+      const st = this.env.state(imp.key);
+      st.structured--;
+      if (!st.present) {
+        this.transfer(ctx, d.range, imp.key, 'toHost', imp.section.bytes, 'implicit', imp.allocation, true);
+        this.env.release(imp.key);
+      }
+    }
+    this.exitClauses(d, entered, ctx, 'clause', true);
+  }
+
+  private enterRegion(d: Directive, ctx: Ctx): EnteredClause[] {
+    const e = this.enterClauses(d, ctx, 'enter', true);
+    this.notePeak(ctx);
+    return e;
+  }
+
+  private exitRegion(d: Directive, entered: EnteredClause[], ctx: Ctx): void {
+    this.exitClauses(d, entered, ctx, 'exit', true);
+  }
+
+  private enterClauses(d: Directive, ctx: Ctx, cause: Cause, structured: boolean): EnteredClause[] {
+    const out: EnteredClause[] = [];
+    for (const e of dataEntries(d)) {
+      if (e.action === 'deviceptr' || e.action === 'delete' || e.action === 'release') continue;
+      if (!this.isArray(e.ref.name, ctx.frame)) continue;
+      const key = this.key(e.ref.name, ctx.frame);
+      const info = this.info(key, ctx.frame, e.ref.name);
+      const section = clauseSection(e.ref, info, this.model.language, this.localBindings(ctx.frame), ctx.frame.bindings);
+      const st = this.env.state(key);
+      if (ctx.run) ctx.run.deviceUsed.add(key);
+      const wasPresent = st.present;
+      if (!wasPresent && e.action !== 'present' && e.action !== 'no_create') this.env.allocate(key);
+      if (structured) st.structured++;
+      else st.dynamic++;
+      const moves = e.action === 'copy' || e.action === 'copyin';
+      if (wasPresent && (e.action === 'copy' || e.action === 'copyin' || e.action === 'copyout') && !e.always) {
+        this.finding('already-present', e.ref.range, key,
+          `\`${e.ref.text}\` is already present on the device here (an enclosing data region or enter data made it present), so this \`${e.clause.name}\` moves nothing: data clauses act only on data that is not yet present (OpenACC 3.3 §2.7, OpenMP reference counts).`);
+      }
+      if (moves && (!wasPresent || e.always)) {
+        this.transfer(ctx, d.range, key, 'toDevice', section.bytes, cause === 'clause' ? 'clause' : 'enter', st.allocation, section.whole);
+        st.hostNewer = subtract(st.hostNewer, section.region);
+      }
+      out.push({ entry: e, key, section, structured });
+    }
+    return out;
+  }
+
+  private exitClauses(d: Directive, entered: EnteredClause[], ctx: Ctx, cause: Cause, structured: boolean): void {
+    for (const { entry, key, section } of [...entered].reverse()) {
+      const st = this.env.state(key);
+      if (structured) st.structured = Math.max(0, st.structured - 1);
+      const back = entry.action === 'copy' || entry.action === 'copyout';
+      if (back && (entry.always || !st.present)) {
+        this.transfer(ctx, d.range, key, 'toHost', section.bytes, cause === 'clause' ? 'clause' : 'exit', st.allocation, section.whole);
+        st.deviceNewer = subtract(st.deviceNewer, section.region);
+      }
+      if (!st.present) this.env.release(key);
+    }
+  }
+
+  private standalone(d: Directive, ctx: Ctx): void {
+    const c = d.construct;
+    if (c === 'update' || c === 'target update') {
+      for (const m of motionEntries(d)) {
+        if (!this.isArray(m.ref.name, ctx.frame)) continue;
+        const key = this.key(m.ref.name, ctx.frame);
+        const info = this.info(key, ctx.frame, m.ref.name);
+        const section = clauseSection(m.ref, info, this.model.language, this.localBindings(ctx.frame), ctx.frame.bindings);
+        const st = this.env.state(key);
+        if (ctx.run) ctx.run.deviceUsed.add(key);
+        if (!st.present) continue;
+        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole);
+        if (m.direction === 'toHost') st.deviceNewer = subtract(st.deviceNewer, section.region);
+        else st.hostNewer = subtract(st.hostNewer, section.region);
+      }
+      return;
+    }
+    if (c === 'enter data' || c === 'target enter data' || c === 'declare' || c === 'declare target') {
+      this.enterClauses(d, ctx, 'enter', false);
+      this.notePeak(ctx);
+      return;
+    }
+    if (c === 'exit data' || c === 'target exit data') {
+      const finalize = d.clauses.some((x) => x.canonical === 'finalize');
+      for (const e of dataEntries(d)) {
+        if (!this.isArray(e.ref.name, ctx.frame)) continue;
+        const key = this.key(e.ref.name, ctx.frame);
+        const info = this.info(key, ctx.frame, e.ref.name);
+        const st = this.env.state(key);
+        if (!st.present) continue;
+        st.dynamic = finalize || e.action === 'delete' ? 0 : Math.max(0, st.dynamic - 1);
+        if (!st.present) {
+          if (e.action === 'copyout' || e.action === 'copy') {
+            const section = clauseSection(e.ref, info, this.model.language, this.localBindings(ctx.frame), ctx.frame.bindings);
+            this.transfer(ctx, d.range, key, 'toHost', section.bytes, 'exit', st.allocation, section.whole);
+          }
+          this.env.release(key);
+        }
+      }
+    }
+  }
+
+  // ---- records -------------------------------------------------------------------------
+
+  private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean): void {
+    const rec: TransferRecord = {
+      range, array, direction, bytes: S.mul(bytes, ctx.multiplier), everySteps: ctx.everySteps, cause,
+      via: ctx.frame.via, allocation, whole,
+    };
+    if (ctx.run) {
+      if (ctx.recording) ctx.run.transfers.push(rec);
+    } else {
+      this.outside.push(rec);
+    }
+  }
+
+  private notePeak(ctx: Ctx): void {
+    const run = ctx.run;
+    if (!run || !ctx.recording) return;
+    let total: number | null = 0;
+    for (const k of this.env.presentKeys()) {
+      run.residentArrays.add(k);
+      const info = this.infos.get(k);
+      const v = info ? S.evaluate(wholeBytes(info), ctx.frame.bindings) : undefined;
+      total = v === undefined || total === null ? null : total + v;
+    }
+    if (run.residentPeak !== null) run.residentPeak = total === null ? null : Math.max(run.residentPeak, total);
+  }
+
+  private finding(code: Finding['code'], range: Range, array: string, message: string): void {
+    const id = `${code}:${range.start.line}:${range.start.col}:${array}`;
+    if (this.seenFindings.has(id)) return;
+    this.seenFindings.add(id);
+    this.findings.push({ code, severity: code.startsWith('stale') ? 'error' : 'info', range, message, array });
+  }
+}
+
+interface EnteredClause {
+  entry: DataEntry;
+  key: string;
+  section: Section;
+  structured: boolean;
+}
+
+/** The array an actual argument passes: `a`, `&a[k]`, `a + off`, `(float *)a`. */
+function arrayArgument(e: VExpr): string | undefined {
+  let x = e;
+  for (;;) {
+    if (x.kind === 'var') return x.name;
+    if (x.kind === 'cast' || (x.kind === 'unary' && x.op === '&')) x = x.operand;
+    else if (x.kind === 'index') return x.access.array;
+    else if (x.kind === 'bin' && (x.op === '+' || x.op === '-')) x = x.left;
+    else return undefined;
+  }
+}
+
+function localName(key: string, frame: Frame): string {
+  for (const [local, k] of frame.rename) if (k === key) return local;
+  const i = key.indexOf('::');
+  return i >= 0 ? key.slice(i + 2) : key;
+}
+
+/** Numeric ranges of the loops inside a construct, for the regions its accesses touch. */
+function deviceRanges(s: Stmt, bindings: ReadonlyMap<string, S.Expr>): LoopRanges {
+  const out = new Map<string, [number, number]>();
+  const visit = (x: Stmt): void => {
+    if (x.kind === 'loop' && x.variable && x.lower && x.upper && !x.triangular) {
+      const lo = S.evaluate(x.lower, bindings);
+      const hi = S.evaluate(x.upper, bindings);
+      if (lo !== undefined && hi !== undefined && hi >= lo) out.set(x.variable, [lo, hi]);
+    }
+    childStatements(x).forEach(visit);
+  };
+  visit(s);
+  return out;
+}
+
+/** "element 4,802,003" or "12,000 elements of it" for messages about stale slices. */
+function describe(newer: Region, touched: Region, info: ArrayInfo): string {
+  const n = regionSize(covers(newer, touched) ? touched : newer.filter((b) => overlaps([b], touched)));
+  if (n === 1) return 'that element';
+  return `${n.toLocaleString('en-US')} of the elements read here (${(n * info.elementBytes).toLocaleString('en-US')} bytes)`;
+}

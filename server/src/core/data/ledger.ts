@@ -1,0 +1,197 @@
+/**
+ * The time-step data ledger of one file: for each time loop, every transfer across the link
+ * (where, why, how often), bytes per step and once, coherence findings, and the data region that
+ * keeps the arrays resident.
+ */
+import * as S from '../symbolic';
+import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
+import type { TimeLoop } from '../analysis/nests';
+import type { Quantity } from '../analysis/bindings';
+import { quantity } from '../analysis/bindings';
+import type { DirectiveFamily, Finding, Range } from '../types';
+import { isOffloadCompute } from '../model/directives';
+import { walkStatements } from '../model/values';
+import { DataInterpreter, type TimeLoopRun, type TransferRecord } from './interpreter';
+import { type Region, regionSize, subtract } from './regions';
+import { regionSectionText } from './slices';
+import { type DataRegionSuggestion, suggestDataRegion } from './suggest';
+
+export interface TransferReport {
+  range: Range;
+  via: Range[];
+  array: string;
+  direction: 'toDevice' | 'toHost';
+  bytes: Quantity;
+  bytesExpr: S.Expr;
+  everySteps: number;
+  cause: TransferRecord['cause'];
+}
+
+export interface TimeLoopLedger {
+  loop: LoopStmt;
+  procedure: Procedure;
+  steps: Quantity;
+  perStep: { toDevice: Quantity; toHost: Quantity };
+  once: { toDevice: Quantity; toHost: Quantity };
+  transfers: TransferReport[];
+  dataRegion: DataRegionSuggestion | null;
+  /** Bytes resident on the device at the peak (null when unbound). */
+  residentBytes: number | null;
+  run: TimeLoopRun;
+}
+
+export interface DataLedgerOptions {
+  deviceMemoryBytes: number;
+}
+
+export function dataLedger(
+  model: ProgramModel,
+  text: string,
+  timeLoops: TimeLoop[],
+  bindingsOf: (p: Procedure) => Map<string, S.Expr>,
+  nestStrides: (key: string) => S.Expr[][],
+  options: DataLedgerOptions,
+): { ledgers: TimeLoopLedger[]; findings: Finding[] } {
+  const outer = timeLoops.filter((t) => !t.parent);
+  const loops = new Set(outer.map((t) => t.loop));
+  const findings: Finding[] = [];
+  const ledgers: TimeLoopLedger[] = [];
+  const family = directiveFamily(model);
+  for (const proc of new Set(outer.map((t) => t.procedure))) {
+    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides);
+    interp.runProcedure(proc);
+    findings.push(...interp.findings);
+    const bindings = bindingsOf(proc);
+    for (const run of interp.runs) {
+      const steps = quantity(run.loop.tripCount ?? S.sym(`trips_L${run.loop.keywordRange.start.line + 1}`), bindings);
+      const transfers = run.transfers.map((t) => ({
+        range: t.range, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
+      }));
+      const perStep = (dir: 'toDevice' | 'toHost'): Quantity => perStepQuantity(run.transfers.filter((t) => t.direction === dir), bindings);
+      const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit'));
+      const once = (dir: 'toDevice' | 'toHost'): Quantity => quantity(S.add(S.num(0), ...onceRecs.filter((t) => t.direction === dir).map((t) => t.bytes)), bindings);
+      const dataRegion = suggestDataRegion(run, model, text, familyIn(run.loop, family), (k) => interp.infoOf(k));
+      const ledger: TimeLoopLedger = {
+        loop: run.loop, procedure: run.procedure, steps, perStep: { toDevice: perStep('toDevice'), toHost: perStep('toHost') },
+        once: { toDevice: once('toDevice'), toHost: once('toHost') }, transfers, dataRegion, residentBytes: run.residentPeak, run,
+      };
+      ledgers.push(ledger);
+      findings.push(...transferFindings(ledger, bindings), ...widerUpdateFindings(ledger, interp, model), ...memoryFindings(ledger, options));
+    }
+  }
+  return { ledgers, findings };
+}
+
+/**
+ * Average bytes per step: a transfer every K steps counts bytes/K. The expression is shown as one
+ * term per period (`32*NX*NY + 32*NX*NY/100`), which reads better than the merged fraction.
+ */
+function perStepQuantity(ts: TransferRecord[], bindings: ReadonlyMap<string, S.Expr>): Quantity {
+  const byPeriod = new Map<number, S.Expr[]>();
+  for (const t of ts) byPeriod.set(t.everySteps, [...(byPeriod.get(t.everySteps) ?? []), t.bytes]);
+  const total = S.add(S.num(0), ...[...byPeriod].map(([k, bs]) => S.div(S.add(...bs), S.num(k))));
+  const shown = [...byPeriod].sort((a, b) => a[0] - b[0]).map(([k, bs]) => {
+    const sum = S.toString(S.add(...bs));
+    return k === 1 ? sum : `${/[+-]/.test(sum) ? `(${sum})` : sum}/${k}`;
+  });
+  return quantity(total, bindings, shown.length > 0 ? shown.join(' + ') : '0');
+}
+
+/** One finding per (directive, array): both directions of a copy in one sentence. */
+function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>): Finding[] {
+  const groups = new Map<string, TransferReport[]>();
+  for (const t of l.transfers) {
+    const id = `${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
+    groups.set(id, [...(groups.get(id) ?? []), t]);
+  }
+  const out: Finding[] = [];
+  const steps = l.steps.value;
+  for (const ts of groups.values()) {
+    const t0 = ts[0];
+    const size = ts[0].bytes.value;
+    const perStepExpr = S.add(...ts.map((t) => S.div(t.bytesExpr, S.num(t.everySteps))));
+    const perStep = S.evaluate(perStepExpr, bindings);
+    const dirs = new Set(ts.map((t) => t.direction));
+    const how = dirs.size === 2 ? 'copied to the device and back' : dirs.has('toDevice') ? 'copied to the device' : 'copied back to the host';
+    const every = t0.everySteps === 1 ? 'every time step' : `every ${t0.everySteps} steps`;
+    const sizeText = size !== null ? ` (${S.formatBytes(size)})` : '';
+    const amounts = perStep !== undefined
+      ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
+      : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
+    const via = t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
+    if (t0.cause === 'implicit') {
+      out.push({
+        code: 'implicit-transfer', severity: 'warning', range: t0.range, array: t0.array,
+        message: `\`${t0.array}\`${sizeText} is named in no data clause and is not present, so this construct ${how === 'copied to the device and back' ? 'copies it to the device and back' : how.replace('copied', 'copies it')} ${every} by the implicit rules (OpenACC 3.3 §2.6.2: aggregates are copied; OpenMP 5.2 §5.8.1: map(tofrom))${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
+      });
+    } else if (t0.cause === 'update') {
+      const whole = l.run.transfers.some((r) => r.range === t0.range && r.array === t0.array && r.whole);
+      out.push({
+        code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: t0.range, array: t0.array,
+        message: `This update moves ${whole ? 'all of ' : 'a slice of '}\`${t0.array}\`${whole ? sizeText : size !== null ? ` (${S.formatBytes(size)})` : ''} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it; keep it as narrow as it is.'}`,
+      });
+    } else {
+      out.push({
+        code: 'transfer-in-time-loop', severity: 'warning', range: t0.range, array: t0.array,
+        message: `\`${t0.array}\`${sizeText} is ${how} ${every} by this construct's data clause${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
+      });
+    }
+  }
+  return out;
+}
+
+/** Whole-array updates where host code in the loop touches only part of the array. */
+function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: ProgramModel): Finding[] {
+  const out: Finding[] = [];
+  const seen = new Set<string>();
+  for (const t of l.run.transfers) {
+    if (t.cause !== 'update' || !t.whole) continue;
+    const id = `${t.range.start.line}:${t.array}:${t.direction}`;
+    if (seen.has(id)) continue;
+    seen.add(id);
+    const info = interp.infoOf(t.array);
+    if (!info || info.shapeApproximate) continue;
+    const kind = t.direction === 'toHost' ? 'read' : 'write';
+    const touched = l.run.hostTouches.filter((h) => h.key === t.array && h.kind === kind).flatMap((h) => h.region);
+    const total = info.shape.extents.reduce((a, b) => a * b, 1);
+    const needed = regionSize(mergeDisjoint(touched));
+    if (touched.length === 0 || needed >= total) continue;
+    const slice = regionSectionText(touched, t.array, info, model.language);
+    out.push({
+      code: 'update-wider-than-needed', severity: 'warning', range: t.range, array: t.array,
+      message: `This update moves all of \`${t.array}\` (${S.formatBytes(total * info.elementBytes)}), but host code in the loop ${kind === 'read' ? 'reads' : 'writes'} only ${needed.toLocaleString('en-US')} element${needed === 1 ? '' : 's'} of it; update just \`${slice}\` (${S.formatBytes(needed * info.elementBytes)}).`,
+    });
+  }
+  return out;
+}
+
+/** The union of possibly overlapping boxes as disjoint boxes, so its size counts each element once. */
+function mergeDisjoint(r: Region): Region {
+  let acc: Region = [];
+  for (const b of r) acc = [...acc, ...subtract([b], acc)];
+  return acc;
+}
+
+function memoryFindings(l: TimeLoopLedger, options: DataLedgerOptions): Finding[] {
+  if (l.residentBytes === null || l.residentBytes <= options.deviceMemoryBytes) return [];
+  return [{
+    code: 'exceeds-device-memory', severity: 'warning', range: l.loop.keywordRange,
+    message: `The arrays resident on the device during this time loop (${[...l.run.residentArrays].sort().join(', ')}) take ${S.formatBytes(l.residentBytes)}, more than the device profile's ${S.formatBytes(options.deviceMemoryBytes)}; split the domain, shrink the grid, or use a device with more memory.`,
+  }];
+}
+
+function directiveFamily(model: ProgramModel): DirectiveFamily {
+  const acc = model.directives.filter((d) => d.family === 'openacc').length;
+  const omp = model.directives.filter((d) => d.family === 'openmp' && d.construct.startsWith('target')).length;
+  return omp > acc ? 'openmp' : 'openacc';
+}
+
+/** The family the loop's own offload constructs use, else the file's. */
+function familyIn(loop: LoopStmt, fallback: DirectiveFamily): DirectiveFamily {
+  let found: DirectiveFamily | undefined;
+  walkStatements(loop.body, (s) => {
+    const d = s.directives.find(isOffloadCompute);
+    if (d && !found) found = d.family;
+  });
+  return found ?? fallback;
+}

@@ -1,0 +1,77 @@
+/**
+ * Source text of array sections, in the file's own language: symbolic slices from the host
+ * accesses that need them (`p[MZ*NX*NY + MY*NX + MX0:NMIC]`, `h(1:nx, 1:1)`), numeric slices
+ * from element regions when no symbolic form is readable, and whole-array sections for data
+ * clauses (`p[0:N]`, or the bare name where the declaration fixes the size).
+ */
+import * as S from '../symbolic';
+import type { SourceLanguage } from '../types';
+import type { ArrayInfo } from './arrays';
+import type { HostTouch } from './interpreter';
+import { type Region, bounding } from './regions';
+
+const src = (e: S.Expr, lang: SourceLanguage): string => S.toSource(e, lang === 'fortran' ? 'fortran' : 'c');
+
+/** The whole array as a clause operand: bare name when the declaration gives the extent, else `p[0:count]`. */
+export function wholeSectionText(name: string, info: ArrayInfo, lang: SourceLanguage): string | undefined {
+  if (lang === 'fortran' || (info.decl && info.decl.dims.length > 0 && !info.decl.isPointer)) return name;
+  if (!info.elementCount) return undefined;
+  return `${name}[0:${src(info.elementCount, lang)}]`;
+}
+
+/**
+ * The slice one host access touches over the host loops around it, in symbolic form. `symbolic`
+ * resolves callee parameters and local constants but keeps the file's named sizes.
+ */
+export function touchSectionText(t: HostTouch, name: string, info: ArrayInfo, lang: SourceLanguage, symbolic: ReadonlyMap<string, S.Expr>): string | undefined {
+  if (t.access.subscripts.some((s) => !s)) return undefined;
+  const loopVars = t.loops.map((l) => l.variable).filter((v): v is string => !!v);
+  const keep = new Map([...symbolic].filter(([k]) => !loopVars.includes(k)));
+  const subs = (t.access.subscripts as S.Expr[]).map((s) => S.substitute(s, keep));
+  const bounds = new Map<string, { lo: S.Expr; hi: S.Expr }>();
+  for (const l of t.loops) {
+    if (!l.variable || !l.lower || !l.upper || (l.step && S.constValue(l.step) !== 1)) return undefined;
+    bounds.set(l.variable, { lo: S.substitute(l.lower, keep), hi: S.substitute(l.upper, keep) });
+  }
+  const ranges: { lo: S.Expr; len: S.Expr }[] = [];
+  for (const sub of subs) {
+    const parts = S.affine(sub, loopVars);
+    if (!parts) return undefined;
+    let lo = parts.rest;
+    let len: S.Expr = S.num(1);
+    let moving = 0;
+    for (const v of loopVars) {
+      const c = S.constValue(parts.coeffs.get(v) ?? S.num(0));
+      if (c === 0) continue;
+      if (c !== 1 || ++moving > 1) return undefined;
+      const b = bounds.get(v)!;
+      lo = S.add(lo, b.lo);
+      len = S.add(S.sub(b.hi, b.lo), S.num(1));
+    }
+    ranges.push({ lo, len });
+  }
+  if (lang === 'fortran') {
+    return `${name}(${ranges.map((r) => `${src(r.lo, lang)}:${src(S.sub(S.add(r.lo, r.len), S.num(1)), lang)}`).join(', ')})`;
+  }
+  // C: a linearised pointer needs one contiguous range; a multi-dimensional array one range per dimension.
+  if (ranges.length === 1 || (info.decl && info.decl.dims.length === ranges.length)) {
+    return `${name}${ranges.map((r) => `[${src(r.lo, lang)}:${src(r.len, lang)}]`).join('')}`;
+  }
+  return undefined;
+}
+
+/** A numeric slice covering a region (its bounding box), for messages and as a fallback. */
+export function regionSectionText(region: Region, name: string, info: ArrayInfo, lang: SourceLanguage): string {
+  if (region.length === 0) return name;
+  const b = bounding(region);
+  const { strides, extents } = info.shape;
+  if (lang === 'fortran') {
+    const lowers = info.decl?.lowerBounds?.map((l) => S.constValue(l) ?? 1) ?? [];
+    return `${name}(${b.lo.map((lo, d) => `${lo + (lowers[d] ?? 1)}:${b.hi[d] + (lowers[d] ?? 1)}`).join(', ')})`;
+  }
+  const multi = info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1;
+  if (multi) return `${name}${[...b.lo.keys()].reverse().map((d) => `[${b.lo[d]}:${b.hi[d] - b.lo[d] + 1}]`).join('')}`;
+  const start = b.lo.reduce((n, v, d) => n + v * strides[d], 0);
+  const end = b.hi.reduce((n, v, d) => n + v * strides[d], 0);
+  return `${name}[${start}:${end - start + 1}]`;
+}

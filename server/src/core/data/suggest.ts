@@ -1,0 +1,200 @@
+/**
+ * The data region a time loop calls for, in the file's own directive model, and the updates
+ * that host code left in the loop needs once the arrays stay on the device:
+ *
+ *   read on the device first and needed on the host afterwards → copy   / map(tofrom:)
+ *   read on the device first, not needed afterwards            → copyin / map(to:)
+ *   written on the device first, needed afterwards             → copyout / map(from:)
+ *   written on the device first, not needed afterwards         → create / map(alloc:)
+ *
+ * Edits are whole lines inserted before 1-based lines of the original file: one directive
+ * before the time loop in C (the loop is the structured block), a directive before and an
+ * `end` directive after it in Fortran, and `update` lines around the host statements.
+ */
+import type { ProgramModel, Stmt } from '../model/program';
+import type { DirectiveFamily, SourceLanguage } from '../types';
+import type { ArrayInfo } from './arrays';
+import type { HostTouch, TimeLoopRun } from './interpreter';
+import { covers, wholeBox } from './regions';
+import { regionSectionText, touchSectionText, wholeSectionText } from './slices';
+
+export interface RegionClause {
+  array: string;
+  /** The standard's own word: copy, copyin, copyout, create (OpenACC); tofrom, to, from, alloc (OpenMP). */
+  clause: string;
+  section?: string;
+}
+
+export interface Edit {
+  /** 1-based line of the original file the text goes before. */
+  line: number;
+  text: string;
+}
+
+export interface DataRegionSuggestion {
+  family: DirectiveFamily;
+  clauses: RegionClause[];
+  edits: Edit[];
+  /** Why edits are missing or partial (e.g. a pointer whose size is unknown). */
+  notes: string[];
+  /** Updates the suggestion adds, for findings and quick fixes. */
+  updates: { array: string; direction: 'toDevice' | 'toHost'; section: string; line: number }[];
+}
+
+type Kind = 'copy' | 'copyin' | 'copyout' | 'create';
+const ompWord: Record<Kind, string> = { copy: 'tofrom', copyin: 'to', copyout: 'from', create: 'alloc' };
+const ORDER: Kind[] = ['copyin', 'copy', 'copyout', 'create'];
+
+export function suggestDataRegion(
+  run: TimeLoopRun,
+  model: ProgramModel,
+  text: string,
+  family: DirectiveFamily,
+  infoOf: (key: string) => ArrayInfo | undefined,
+): DataRegionSuggestion | null {
+  const lang = model.language;
+  const candidates = [...run.deviceUsed].filter((k) => !k.includes('::') && !run.presentAtEntry.has(k) && !infoOf(k)?.isScalar).sort();
+  if (candidates.length === 0) return null;
+  const escapes = (k: string): boolean => {
+    const d = infoOf(k)?.decl;
+    return !!d && (d.scope === 'global' || d.scope === 'param');
+  };
+  const out: DataRegionSuggestion = { family, clauses: [], edits: [], notes: [], updates: [] };
+  const byKind = new Map<Kind, string[]>();
+  for (const k of candidates) {
+    const info = infoOf(k);
+    // A partial device write copied out would overwrite the host's other elements with device
+    // memory nobody wrote, so copyout needs the device to write the whole array.
+    const written = run.deviceWritten.get(k) ?? [];
+    const writesAll = !!info && covers(written, [wholeBox(info.shape)]) && !info.shapeApproximate;
+    const readFirst = run.needsHostValues.has(k) || !run.deviceWrites.has(k);
+    const after = run.neededAfter.has(k) || escapes(k);
+    const kind: Kind = readFirst ? (after ? 'copy' : 'copyin') : after ? (writesAll ? 'copyout' : 'copy') : 'create';
+    const section = info ? wholeSectionText(k, info, lang) : undefined;
+    if (!section) out.notes.push(`the size of \`${k}\` is unknown, so its clause needs a section written by hand`);
+    out.clauses.push({ array: k, clause: family === 'openacc' ? kind : ompWord[kind], section });
+    byKind.set(kind, [...(byKind.get(kind) ?? []), section ?? k]);
+  }
+  const lines = text.split('\n');
+  const loop = run.loop;
+  const firstLine = Math.min(loop.range.start.line, ...loop.directives.map((d) => d.range.start.line));
+  const indent = /^\s*/.exec(lines[loop.range.start.line] ?? '')?.[0] ?? '';
+  const clauseText = ORDER.filter((k) => byKind.has(k)).map((k) => (family === 'openacc' ? `${k}(${byKind.get(k)!.join(', ')})` : `map(${ompWord[k]}: ${byKind.get(k)!.join(', ')})`));
+  if (lang === 'fortran') {
+    const sentinel = family === 'openacc' ? '!$acc' : '!$omp';
+    const opener = family === 'openacc' ? 'data' : 'target data';
+    out.edits.push(...fortranDirective(indent, sentinel, opener, clauseText).map((t) => ({ line: firstLine + 1, text: t })));
+    out.edits.push({ line: loop.range.end.line + 2, text: `${indent}${sentinel} end ${opener}` });
+  } else {
+    const opener = family === 'openacc' ? '#pragma acc data' : '#pragma omp target data';
+    out.edits.push({ line: firstLine + 1, text: `${indent}${opener} ${clauseText.join(' ')}` });
+  }
+  if (out.notes.length > 0) out.edits = [];
+  if (out.edits.length > 0) addUpdates(out, run, model, text, family, infoOf, new Set(candidates));
+  // A region without an update host code needs would make that code read stale data: no edits then.
+  if (out.notes.length > 0) out.edits = [];
+  out.edits.sort((a, b) => a.line - b.line);
+  return out;
+}
+
+/** Updates around host statements that touch arrays the region makes resident. */
+function addUpdates(out: DataRegionSuggestion, run: TimeLoopRun, model: ProgramModel, text: string, family: DirectiveFamily, infoOf: (key: string) => ArrayInfo | undefined, resident: Set<string>): void {
+  const lang = model.language;
+  const groups = new Map<string, { touches: HostTouch[]; anchor: Stmt; ancestors: Stmt[]; kind: 'read' | 'write'; key: string }>();
+  for (const t of run.hostTouches) {
+    if (!resident.has(t.key)) continue;
+    if (t.kind === 'read' && !run.deviceWrites.has(t.key)) continue;
+    if (t.kind === 'write' && !run.deviceReads.has(t.key)) continue;
+    const id = `${t.anchor.range.start.line}:${t.anchor.range.start.col}:${t.key}:${t.kind}`;
+    const g = groups.get(id) ?? { touches: [], anchor: t.anchor, ancestors: t.ancestors, kind: t.kind, key: t.key };
+    g.touches.push(t);
+    groups.set(id, g);
+  }
+  const fileNames = new Set(model.bindings.keys());
+  for (const g of groups.values()) {
+    const info = infoOf(g.key);
+    if (!info) continue;
+    const symbolic = new Map([...g.touches[0].bindings].filter(([k]) => !fileNames.has(k)));
+    const texts = [...new Set(g.touches.map((t) => touchSectionText(t, g.key, info, lang, symbolic)))];
+    const section = texts.length === 1 && texts[0] ? texts[0] : regionSectionText(g.touches.flatMap((t) => t.region), g.key, info, lang);
+    const place = insertionPoint(g.anchor, g.ancestors, text, lang);
+    if (!place) {
+      out.notes.push(`no line to put the ${g.kind === 'read' ? 'update to the host' : 'update to the device'} of \`${g.key}\` near line ${g.anchor.range.start.line + 1}`);
+      continue;
+    }
+    const direction = g.kind === 'read' ? 'toHost' : 'toDevice';
+    const stmt = place.stmt;
+    const indent = /^\s*/.exec(text.split('\n')[stmt.range.start.line] ?? '')?.[0] ?? '';
+    const before = stmt.range.start.line + 1;
+    const after = stmt.range.end.line + 2;
+    const update = { line: direction === 'toHost' ? before : after, text: `${indent}${updateDirective(family, lang, direction, section)}` };
+    // An unbraced `if`/`for` body gets braces, so that the update stays under the same guard.
+    if (place.wrap) out.edits.push({ line: before, text: `${indent}{` });
+    out.edits.push(update);
+    if (place.wrap) out.edits.push({ line: after, text: `${indent}}` });
+    out.updates.push({ array: g.key, direction, section, line: update.line });
+  }
+}
+
+function updateDirective(family: DirectiveFamily, lang: SourceLanguage, direction: 'toDevice' | 'toHost', section: string): string {
+  const sentinel = lang === 'fortran' ? (family === 'openacc' ? '!$acc' : '!$omp') : family === 'openacc' ? '#pragma acc' : '#pragma omp';
+  if (family === 'openacc') return `${sentinel} update ${direction === 'toHost' ? 'self' : 'device'}(${section})`;
+  return `${sentinel} target update ${direction === 'toHost' ? 'from' : 'to'}(${section})`;
+}
+
+/** Fortran free form allows 132 characters per line; long directives continue with `&`. */
+function fortranDirective(indent: string, sentinel: string, opener: string, clauses: string[]): string[] {
+  const out: string[] = [];
+  let cur = `${indent}${sentinel} ${opener}`;
+  for (const c of clauses) {
+    if (cur.length + c.length + 1 > 100) {
+      out.push(`${cur} &`);
+      cur = `${indent}${sentinel}& ${c}`;
+    } else cur += ` ${c}`;
+  }
+  out.push(cur);
+  return out;
+}
+
+/**
+ * The statement a line may go before or after: it must start and end its own lines; in C, an
+ * update cannot be the unbraced body of an `if` or `for`, so such a statement is wrapped in
+ * braces. Otherwise the nearest enclosing statement that qualifies.
+ */
+function insertionPoint(anchor: Stmt, ancestors: Stmt[], text: string, lang: SourceLanguage): { stmt: Stmt; wrap: boolean } | undefined {
+  const lines = text.split('\n');
+  const offsets: number[] = [];
+  let o = 0;
+  for (const l of lines) {
+    offsets.push(o);
+    o += l.length + 1;
+  }
+  const ownLines = (s: Stmt): boolean => {
+    const start = s.directives.length > 0 ? s.directives[0].range.start : s.range.start;
+    const before = (lines[start.line] ?? '').slice(0, start.col);
+    const after = (lines[s.range.end.line] ?? '').slice(s.range.end.col);
+    return before.trim() === '' && /^\s*(\/\/.*|\/\*.*\*\/\s*|!.*)?$/.test(after);
+  };
+  for (const s of [anchor, ...[...ancestors].reverse()]) {
+    if (!ownLines(s)) continue;
+    if (lang === 'fortran') return { stmt: s, wrap: false };
+    const start = s.directives.length > 0 ? s.directives[0].range.start : s.range.start;
+    return { stmt: s, wrap: !precededByStatementBoundary(text, offsets[start.line] + start.col) };
+  }
+  return undefined;
+}
+
+function precededByStatementBoundary(text: string, offset: number): boolean {
+  let i = offset - 1;
+  for (;;) {
+    while (i >= 0 && /\s/.test(text[i])) i--;
+    if (i < 0) return true;
+    const lineStart = text.lastIndexOf('\n', i) + 1;
+    const line = text.slice(lineStart, i + 1);
+    if (/^\s*#/.test(line)) { i = lineStart - 1; continue; }
+    const comment = line.indexOf('//');
+    if (comment >= 0 && !line.slice(0, comment).includes('"')) { i = lineStart + comment - 1; continue; }
+    if (text.slice(i - 1, i + 1) === '*/') { i = text.lastIndexOf('/*', i) - 1; continue; }
+    return '{};:'.includes(text[i]);
+  }
+}
