@@ -1,6 +1,8 @@
 /** The human-readable report of `check --format text`: one table of loop nests per file, then findings. */
 import type { FileAnalysis } from '../core/analyze';
 import type { Quantity } from '../core/analysis/bindings';
+import type { TimeLoopReport } from '../core/analyze';
+import { formatBytes } from '../core/symbolic';
 
 export function formatQuantity(q: Quantity): string {
   if (q.value === null) return q.expr;
@@ -38,10 +40,7 @@ export function formatFile(a: FileAnalysis): string {
     }
     lines.push(formatTable(rows).replace(/^/gm, '  '));
   }
-  if (a.timeLoops.length > 0) {
-    const tl = a.timeLoops.map((t) => `line ${t.timeLoop.loop.keywordRange.start.line + 1} (${t.timeLoop.loop.variable ?? 'while'}: ${formatQuantity(t.steps)} steps)`);
-    lines.push(`  time loops: ${tl.join('; ')}`);
-  }
+  for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
   for (const f of a.findings) {
     lines.push(`  ${a.path}:${f.range.start.line + 1}:${f.range.start.col + 1}: ${f.severity} [${f.code}] ${f.message}`);
   }
@@ -51,4 +50,32 @@ export function formatFile(a: FileAnalysis): string {
 
 function fmt(x: number): string {
   return Number.isInteger(x) ? String(x) : x.toFixed(2);
+}
+
+function bytes(q: Quantity): string {
+  return q.value === null ? `${q.expr} B` : formatBytes(q.value);
+}
+
+/** The per-step ledger of one time loop: totals, each transfer, and the suggested data region. */
+function formatTimeLoop(t: TimeLoopReport): string[] {
+  const loop = t.timeLoop.loop;
+  const head = `  time loop at line ${loop.keywordRange.start.line + 1} (${loop.variable ?? 'while'}, ${formatQuantity(t.steps)} steps)`;
+  const l = t.ledger;
+  if (!l) return [`${head}: inside another time loop, counted there`];
+  const out = [`${head}: per step ${bytes(l.perStep.toDevice)} to device, ${bytes(l.perStep.toHost)} to host; once ${bytes(l.once.toDevice)} in, ${bytes(l.once.toHost)} out`];
+  if (l.transfers.length > 0) {
+    const rows = [['line', 'array', 'direction', 'bytes', 'every', 'cause']];
+    for (const x of l.transfers) {
+      const via = x.via.length > 0 ? ` via ${x.via.map((r) => r.start.line + 1).join('>')}` : '';
+      rows.push([`${x.range.start.line + 1}${via}`, x.array, x.direction === 'toDevice' ? 'to device' : 'to host', bytes(x.bytes), x.everySteps === 1 ? 'step' : `${x.everySteps} steps`, x.cause]);
+    }
+    out.push(formatTable(rows).replace(/^/gm, '    '));
+  }
+  const r = l.dataRegion;
+  if (r) {
+    const directive = r.edits.find((e) => /\b(data)\b/.test(e.text))?.text.trim();
+    out.push(`    suggested data region: ${directive ?? r.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' ')}${r.updates.length > 0 ? ` plus ${r.updates.length} update${r.updates.length === 1 ? '' : 's'} for host code in the loop` : ''}`);
+    for (const n of r.notes) out.push(`    note: ${n}`);
+  }
+  return out;
 }

@@ -31,6 +31,8 @@ export interface TransferRecord {
   allocation: number;
   /** Whole-array update/clause (for messages). */
   whole: boolean;
+  /** The variable in the clause that causes it, when there is one (where findings point). */
+  at?: Range;
 }
 
 /** A host access inside the time loop to an array the device also uses. */
@@ -461,7 +463,7 @@ export class DataInterpreter {
           `\`${e.ref.text}\` is already present on the device here (an enclosing data region or enter data made it present), so this \`${e.clause.name}\` moves nothing: data clauses act only on data that is not yet present (OpenACC 3.3 §2.7, OpenMP reference counts).`);
       }
       if (moves && (!wasPresent || e.always)) {
-        this.transfer(ctx, d.range, key, 'toDevice', section.bytes, cause === 'clause' ? 'clause' : 'enter', st.allocation, section.whole);
+        this.transfer(ctx, d.range, key, 'toDevice', section.bytes, cause === 'clause' ? 'clause' : 'enter', st.allocation, section.whole, e.ref.range);
         st.hostNewer = subtract(st.hostNewer, section.region);
       }
       out.push({ entry: e, key, section, structured });
@@ -475,7 +477,7 @@ export class DataInterpreter {
       if (structured) st.structured = Math.max(0, st.structured - 1);
       const back = entry.action === 'copy' || entry.action === 'copyout';
       if (back && (entry.always || !st.present)) {
-        this.transfer(ctx, d.range, key, 'toHost', section.bytes, cause === 'clause' ? 'clause' : 'exit', st.allocation, section.whole);
+        this.transfer(ctx, d.range, key, 'toHost', section.bytes, cause === 'clause' ? 'clause' : 'exit', st.allocation, section.whole, entry.ref.range);
         st.deviceNewer = subtract(st.deviceNewer, section.region);
       }
       if (!st.present) this.env.release(key);
@@ -493,7 +495,7 @@ export class DataInterpreter {
         const st = this.env.state(key);
         if (ctx.run) ctx.run.deviceUsed.add(key);
         if (!st.present) continue;
-        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole);
+        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole, m.ref.range);
         if (m.direction === 'toHost') st.deviceNewer = subtract(st.deviceNewer, section.region);
         else st.hostNewer = subtract(st.hostNewer, section.region);
       }
@@ -526,10 +528,10 @@ export class DataInterpreter {
 
   // ---- records -------------------------------------------------------------------------
 
-  private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean): void {
+  private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean, at?: Range): void {
     const rec: TransferRecord = {
       range, array, direction, bytes: S.mul(bytes, ctx.multiplier), everySteps: ctx.everySteps, cause,
-      via: ctx.frame.via, allocation, whole,
+      via: ctx.frame.via, allocation, whole, at,
     };
     if (ctx.run) {
       if (ctx.recording) ctx.run.transfers.push(rec);

@@ -18,6 +18,8 @@ import { type DataRegionSuggestion, suggestDataRegion } from './suggest';
 
 export interface TransferReport {
   range: Range;
+  /** The clause variable that causes the transfer, when there is one. */
+  at?: Range;
   via: Range[];
   array: string;
   direction: 'toDevice' | 'toHost';
@@ -65,7 +67,7 @@ export function dataLedger(
     for (const run of interp.runs) {
       const steps = quantity(run.loop.tripCount ?? S.sym(`trips_L${run.loop.keywordRange.start.line + 1}`), bindings);
       const transfers = run.transfers.map((t) => ({
-        range: t.range, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
+        range: t.range, at: t.at, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
       }));
       const perStep = (dir: 'toDevice' | 'toHost'): Quantity => perStepQuantity(run.transfers.filter((t) => t.direction === dir), bindings);
       const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit'));
@@ -127,12 +129,12 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
     } else if (t0.cause === 'update') {
       const whole = l.run.transfers.some((r) => r.range === t0.range && r.array === t0.array && r.whole);
       out.push({
-        code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: t0.range, array: t0.array,
+        code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: t0.at ?? t0.range, array: t0.array,
         message: `This update moves ${whole ? 'all of ' : 'a slice of '}\`${t0.array}\`${whole ? sizeText : size !== null ? ` (${S.formatBytes(size)})` : ''} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it; keep it as narrow as it is.'}`,
       });
     } else {
       out.push({
-        code: 'transfer-in-time-loop', severity: 'warning', range: t0.range, array: t0.array,
+        code: 'transfer-in-time-loop', severity: 'warning', range: t0.at ?? t0.range, array: t0.array,
         message: `\`${t0.array}\`${sizeText} is ${how} ${every} by this construct's data clause${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
       });
     }
