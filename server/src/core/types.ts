@@ -34,12 +34,26 @@ export type FindingCode =
   | 'unknown-extent'
   | 'directive-syntax';
 
+/** A replacement of a source range (0-based, half-open); an empty range inserts. */
+export interface TextEdit {
+  range: Range;
+  newText: string;
+}
+
+/** A quick fix the user may choose: its title and the edits it makes. Never applied by the analysis. */
+export interface Fix {
+  title: string;
+  edits: TextEdit[];
+}
+
 export interface Finding {
   code: FindingCode;
   severity: Severity;
   range: Range;
   message: string;
   array?: string;
+  /** Quick fixes for this finding, in order of preference. */
+  fixes?: Fix[];
 }
 
 export type DirectiveFamily = 'openacc' | 'openmp';
