@@ -22,7 +22,7 @@ export function formatFile(a: FileAnalysis): string {
   if (a.nests.length === 0) {
     lines.push('  no loop nests found');
   } else {
-    const rows = [['line', 'function', 'variables', 'offloaded', 'flop/it', 'B/it dev', 'B/it host', 'AI dev', 'AI host', 'iterations']];
+    const rows = [['line', 'function', 'variables', 'offloaded', 'flop/it', 'B/it dev', 'B/it host', 'AI dev', 'AI host', 'kernel speedup', 'iterations']];
     for (const r of a.nests) {
       const n = r.nest;
       rows.push([
@@ -35,12 +35,14 @@ export function formatFile(a: FileAnalysis): string {
         fmt(r.cost.bytes.host),
         r.cost.intensity.device === undefined ? '-' : r.cost.intensity.device.toFixed(2),
         r.cost.intensity.host === undefined ? '-' : r.cost.intensity.host.toFixed(2),
+        r.estimate?.speedup ? `${spread(r.estimate.speedup)} (${r.estimate.bound})` : '-',
         formatQuantity(r.iterations) + (r.approximate ? ' (approx., triangular)' : ''),
       ]);
     }
     lines.push(formatTable(rows).replace(/^/gm, '  '));
   }
   for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
+  if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.nests[0].estimate?.baseline === 'core' ? 'one-core' : 'whole-node'} baseline; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
   for (const f of a.findings) {
     lines.push(`  ${a.path}:${f.range.start.line + 1}:${f.range.start.col + 1}: ${f.severity} [${f.code}] ${f.message}`);
   }
@@ -71,6 +73,12 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
     }
     out.push(formatTable(rows).replace(/^/gm, '    '));
   }
+  const e = t.estimate;
+  if (e && e.speedup && e.hostSeconds !== null && e.deviceSeconds !== null) {
+    out.push(`    per step: host ${seconds(e.hostSeconds)}; offloaded ${seconds(e.deviceSeconds)} = kernels ${seconds(e.kernelSeconds!)} + launches ${seconds(e.launchSeconds!)} + transfers ${seconds(e.transferSeconds!)} + host code ${seconds(e.hostLeftSeconds!)}`);
+    out.push(`    speedup ${spread(e.speedup)} (expected ${e.speedup.expected.toFixed(2)}×), bound by ${e.bound}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${e.withRegion.bound})` : ''}`);
+    if (e.residentBytes !== null) out.push(`    resident on the device: ${formatBytes(e.residentBytes)}${e.runsPerDevice !== null ? `; ${e.runsPerDevice} run${e.runsPerDevice === 1 ? '' : 's'} fit on one device` : ''}`);
+  }
   const r = l.dataRegion;
   if (r) {
     const directive = r.edits.find((e) => /\b(data)\b/.test(e.text))?.text.trim();
@@ -78,4 +86,14 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
     for (const n of r.notes) out.push(`    note: ${n}`);
   }
   return out;
+}
+
+function spread(s: { low: number; high: number }): string {
+  return `${s.low.toFixed(2)}–${s.high.toFixed(2)}×`;
+}
+
+export function seconds(x: number): string {
+  if (x >= 1) return `${x.toFixed(2)} s`;
+  if (x >= 1e-3) return `${(x * 1e3).toFixed(2)} ms`;
+  return `${(x * 1e6).toFixed(1)} µs`;
 }

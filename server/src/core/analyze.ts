@@ -11,6 +11,11 @@ import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, qu
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
 import { type TimeLoopLedger, dataLedger } from './data/ledger';
+import { applyLineEdits } from './data/edits';
+import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/profiles';
+import { nestEstimate } from './estimate/nest';
+import { type StepWork, stepEstimate, stepWork } from './estimate/step';
+import type { Baseline, NestEstimate, StepEstimate } from './estimate/types';
 import type { DirectiveFamily, Finding, SourceLanguage } from './types';
 
 export interface AnalyzeInput {
@@ -27,18 +32,20 @@ export interface AnalyzeDeps {
 export interface AnalyzeOptions {
   /** The user's size bindings (`--bind NX=600`); they override everything the file says. */
   bindings?: ReadonlyMap<string, number>;
-  /**
-   * Host cache available to one run, for the layer condition. Default 2 MiB: a core's share of
-   * a server CPU's L2 plus L3 is about 1.5–4 MiB (from memory); machine profiles override it.
-   */
+  /** The machine the estimates are for; default the `pcie4-hbm2e` preset. */
+  profile?: MachineProfile;
+  /** Host baseline of the speedups: the whole node (default) or one core (one run per core). */
+  baseline?: Baseline;
+  /** Host cache for the layer condition; default the profile's cache per core. */
   cacheBytes?: number;
-  /** Device memory capacity in bytes, for `exceeds-device-memory`. */
+  /** Device memory for `exceeds-device-memory`; default the profile's. */
   deviceMemoryBytes?: number;
+  /** Internal: false when analysing the file with the suggested edits applied (no further what-if). */
+  whatIf?: boolean;
 }
 
+/** A core's share of a server CPU's L2 plus L3 (from memory); used by scripts without a profile. */
 export const DEFAULT_CACHE_BYTES = 2 * 1024 * 1024;
-/** Device memory for `exceeds-device-memory` until machine profiles exist: 80 GB, an HBM2e-class data-center GPU (from memory). */
-export const DEFAULT_DEVICE_MEMORY_BYTES = 80e9;
 
 export interface NestReport {
   nest: LoopNest;
@@ -46,6 +53,7 @@ export interface NestReport {
   /** True when a bound depends on an outer loop variable, so the count is an approximation. */
   approximate: boolean;
   cost: NestCost;
+  estimate?: NestEstimate;
 }
 
 export interface TimeLoopReport {
@@ -53,10 +61,13 @@ export interface TimeLoopReport {
   steps: Quantity;
   /** The per-step data ledger; absent for a time loop nested inside another (the outer one is the step). */
   ledger?: TimeLoopLedger;
+  estimate?: StepEstimate;
 }
 
 export interface FileAnalysis {
   path: string;
+  /** The machine profile the estimates used. */
+  profile: MachineProfile;
   language: SourceLanguage;
   model: ProgramModel;
   directiveFamilies: DirectiveFamily[];
@@ -67,8 +78,11 @@ export interface FileAnalysis {
 }
 
 export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
+  const profile = options.profile ?? presetProfile(DEFAULT_PROFILE)!;
+  const baseline = options.baseline ?? 'node';
   const result: FileAnalysis = {
     path: input.path,
+    profile,
     language: input.language,
     model: emptyModel(input),
     directiveFamilies: [],
@@ -99,20 +113,25 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     for (const nest of scan.nests) {
       const it = nestIterations(nest);
       const iterations = quantity(it.expr, bind(nest), it.display);
-      const cost = nestCost(nest, result.model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? DEFAULT_CACHE_BYTES });
-      result.nests.push({ nest, iterations, approximate: it.triangular, cost });
+      const cost = nestCost(nest, result.model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? profile.host.cacheBytesPerCore });
+      const estimate = nestEstimate(iterations.value, cost, profile, baseline);
+      result.nests.push({ nest, iterations, approximate: it.triangular, cost, estimate });
     }
     const strides = new Map<string, S.Expr[][]>();
     for (const r of result.nests) {
       for (const f of r.cost.footprints) strides.set(f.array, [...(strides.get(f.array) ?? []), f.strides]);
     }
     const data = dataLedger(result.model, input.text, scan.timeLoops, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? [], {
-      deviceMemoryBytes: options.deviceMemoryBytes ?? DEFAULT_DEVICE_MEMORY_BYTES,
+      deviceMemoryBytes: options.deviceMemoryBytes ?? profile.device.memoryBytes,
     });
+    const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
     result.findings.push(...data.findings);
     for (const tl of scan.timeLoops) {
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
-      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger: data.ledgers.find((l) => l.loop === tl.loop) });
+      const ledger = data.ledgers.find((l) => l.loop === tl.loop);
+      const k = ledger ? data.ledgers.indexOf(ledger) : -1;
+      const estimate = ledger ? stepEstimate(ledger, result.nests, profile, baseline, fixed[k]) : undefined;
+      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate });
     }
     result.findings.push(...unknownExtentFindings(result));
   } catch (err) {
@@ -120,6 +139,25 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
   }
   result.findings.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
   return result;
+}
+
+/**
+ * The step work of each time loop once the suggested data regions are applied: the file is
+ * analysed again with the edits in, so "what the fix is worth" comes from the same model as
+ * everything else rather than from a guess. Returns one entry per ledger (null when no region).
+ */
+function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions, ledgers: TimeLoopLedger[]): (StepWork | null)[] {
+  const edits = ledgers.flatMap((l) => l.dataRegion?.edits ?? []);
+  if (edits.length === 0) return ledgers.map(() => null);
+  const after = analyzeSource({ ...input, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false });
+  const afterLedgers = after.timeLoops.map((t) => t.ledger).filter((l): l is TimeLoopLedger => !!l);
+  return ledgers.map((l, k) => {
+    if (!l.dataRegion || l.dataRegion.edits.length === 0) return null;
+    const same = afterLedgers.filter((a) => a.procedure.name === l.procedure.name);
+    const mine = ledgers.filter((x) => x.procedure.name === l.procedure.name).indexOf(ledgers[k]);
+    const match = same[mine];
+    return match ? stepWork(match, after.nests) : null;
+  });
 }
 
 function emptyModel(input: AnalyzeInput): ProgramModel {

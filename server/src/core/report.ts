@@ -6,6 +6,8 @@ import type { FileAnalysis } from './analyze';
 import type { Quantity } from './analysis/bindings';
 import type { Finding } from './types';
 import type { TimeLoopLedger } from './data/ledger';
+import type { NestEstimate, Spread, StepEstimate } from './estimate/types';
+import type { MachineProfile } from './machine/profiles';
 
 export const TOOL_NAME = 'offload-ledger';
 export const TOOL_VERSION = '0.1.0';
@@ -41,9 +43,10 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
           irregular: f.irregular,
         })),
         layerConditions: r.cost.traffic.layerChecks.map((c) => ({ variable: c.variable, bytes: c.bytes, budget: c.budget, holds: c.holds })),
+        ...(r.estimate ? { estimate: nestEstimateJson(r.estimate) } : {}),
       };
     }),
-    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => timeLoopJson(t.ledger!)),
+    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => ({ ...timeLoopJson(t.ledger!), ...(t.estimate ? { estimate: stepEstimateJson(t.estimate) } : {}) })),
     findings: a.findings.map(jsonFinding),
   };
 }
@@ -76,8 +79,38 @@ function timeLoopJson(l: TimeLoopLedger): Record<string, unknown> {
   };
 }
 
+function spreadJson(s: Spread | null): Record<string, number> | undefined {
+  return s ? { low: round(s.low), expected: round(s.expected), high: round(s.high) } : undefined;
+}
+
+function nestEstimateJson(e: NestEstimate): Record<string, unknown> {
+  const out: Record<string, unknown> = { hostSeconds: e.hostSeconds === null ? null : round(e.hostSeconds), deviceSeconds: e.deviceSeconds === null ? null : round(e.deviceSeconds) };
+  if (e.speedup) out.speedup = spreadJson(e.speedup);
+  if (e.bound) out.bound = e.bound;
+  return out;
+}
+
+function stepEstimateJson(e: StepEstimate): Record<string, unknown> {
+  const r = (x: number | null): number | null => (x === null ? null : round(x));
+  const out: Record<string, unknown> = {
+    hostSeconds: r(e.hostSeconds), deviceSeconds: r(e.deviceSeconds), transferSeconds: r(e.transferSeconds),
+    kernelSeconds: r(e.kernelSeconds), launchSeconds: r(e.launchSeconds), hostLeftSeconds: r(e.hostLeftSeconds),
+    residentBytes: e.residentBytes, runsPerDevice: e.runsPerDevice, baseline: e.baseline,
+  };
+  if (e.speedup) out.speedup = spreadJson(e.speedup);
+  if (e.bound) out.bound = e.bound;
+  if (e.withRegion) out.withRegion = { deviceSeconds: r(e.withRegion.deviceSeconds), speedup: spreadJson(e.withRegion.speedup), bound: e.withRegion.bound };
+  return out;
+}
+
+/** The machine profile as the report's `machine` object: names, the figures used, and their sources. */
+export function machineJson(p: MachineProfile): Record<string, unknown> {
+  return { name: p.name, host: p.host, device: p.device, link: p.link };
+}
+
 export function report(analyses: FileAnalysis[]): Record<string, unknown> {
-  return { tool: { name: TOOL_NAME, version: TOOL_VERSION }, files: analyses.map(fileReport) };
+  const machine = analyses[0]?.profile;
+  return { tool: { name: TOOL_NAME, version: TOOL_VERSION }, ...(machine ? { machine: machineJson(machine) } : {}), files: analyses.map(fileReport) };
 }
 
 export function jsonQuantity(q: Quantity): JsonQuantity {

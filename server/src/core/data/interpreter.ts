@@ -51,6 +51,17 @@ export interface HostTouch {
   rename: Map<string, string>;
 }
 
+/** One execution site of a construct or host nest inside a time loop step. */
+export interface Execution {
+  stmt: Stmt;
+  /** Product of the trip counts of host loops around it inside the step. */
+  multiplier: S.Expr;
+  everySteps: number;
+  /** Bindings of the frame it runs in (a callee's parameters bound to the call's arguments). */
+  bindings: Map<string, S.Expr>;
+  via: Range[];
+}
+
 export interface TimeLoopRun {
   loop: LoopStmt;
   procedure: Procedure;
@@ -70,6 +81,10 @@ export interface TimeLoopRun {
   hostTouches: HostTouch[];
   /** Arrays the host reads after the loop (they must come back). */
   neededAfter: Set<string>;
+  /** Device constructs run in one step (second pass), with how often and under which bindings. */
+  kernels: Execution[];
+  /** Host-only loop nests run in one step: the host code left in the loop. */
+  hostNests: Execution[];
   /** Peak bytes resident on the device during the loop (null when a size is unbound). */
   residentPeak: number | null;
   residentArrays: Set<string>;
@@ -222,6 +237,7 @@ export class DataInterpreter {
           this.withRange(s, next, () => this.exec(s.body, next));
           return;
         }
+        if (ctx.run && ctx.recording && inner.hostLoops.length === 0) ctx.run.hostNests.push(this.execution(s, ctx));
         this.withRange(s, inner, () => this.exec(s.body, { ...inner, hostLoops: [...inner.hostLoops, s], anchorFixed: true }));
         return;
       case 'call':
@@ -269,7 +285,7 @@ export class DataInterpreter {
     const run: TimeLoopRun = {
       loop, procedure: ctx.frame.proc, transfers: [], liveAtEntry: new Map(), presentAtEntry: new Set(),
       needsHostValues: new Set(), deviceWritten: new Map(), deviceReads: new Set(), deviceWrites: new Set(), deviceUsed: new Set(),
-      hostTouches: [], neededAfter: new Set(), residentPeak: 0, residentArrays: new Set(),
+      hostTouches: [], neededAfter: new Set(), residentPeak: 0, residentArrays: new Set(), kernels: [], hostNests: [],
     };
     for (const k of this.env.presentKeys()) {
       run.presentAtEntry.add(k);
@@ -360,7 +376,12 @@ export class DataInterpreter {
 
   // ---- device constructs ---------------------------------------------------------------
 
+  private execution(stmt: Stmt, ctx: Ctx): Execution {
+    return { stmt, multiplier: ctx.multiplier, everySteps: ctx.everySteps, bindings: ctx.frame.bindings, via: ctx.frame.via };
+  }
+
   private compute(s: Stmt, d: Directive, ctx: Ctx): void {
+    if (ctx.run && ctx.recording) ctx.run.kernels.push(this.execution(s, ctx));
     const entered = this.enterClauses(d, ctx, 'clause', true);
     const named = new Set(dataEntries(d).map((e) => this.key(e.ref.name, ctx.frame)));
     const privates = privateNames(d);
