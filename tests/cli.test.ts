@@ -95,3 +95,38 @@ describe('offload-ledger check', () => {
     expect(r.stderr).toMatch(/binary file/);
   });
 });
+
+describe('offload-ledger plan and machine profiles', () => {
+  it('plans throughput for many runs on a mixed pool', () => {
+    const r = runCli(['plan', '--runs', '400', '--pool', 'host=4,device=1', 'examples/hall/hall_resident_acc.c']);
+    expect(r.status).toBe(0);
+    expect(r.stdout).toMatch(/400 runs of 1,000 steps on profile pcie4-hbm2e/);
+    expect(r.stdout).toMatch(/pool of 4 host \+ 1 device nodes: the batch takes/);
+    const j = JSON.parse(runCli(['plan', '--format', 'json', '--runs', '10', 'examples/hall/hall_resident_acc.c']).stdout);
+    expect(j.planning[0].plan.runs).toBe(10);
+    expect(schemaValidator()(j).ok).toBe(true);
+  });
+
+  it('reads a machines file and names what is wrong in it', () => {
+    const good = join(tmp, 'machines.json');
+    writeFileSync(good, JSON.stringify({ default: 'lab', profiles: { lab: { preset: 'pcie5-hbm3', host: { costPerNodeHour: 2.5 } } } }));
+    const r = runCli(['check', '--machines', good, '--format', 'json', 'examples/heat2d/heat2d_acc.c']);
+    expect(JSON.parse(r.stdout).machine.name).toBe('lab');
+    const bad = join(tmp, 'bad-machines.json');
+    writeFileSync(bad, JSON.stringify({ profiles: { lab: { host: { cores: 0 } } } }));
+    const b = runCli(['check', '--machines', bad, 'examples/heat2d/heat2d_acc.c']);
+    expect(b.status).toBe(2);
+    expect(b.stderr).toMatch(/profiles\.lab\.host\.cores must be >= 1/);
+    const unknown = runCli(['check', '--profile', 'nope', 'examples/heat2d/heat2d_acc.c']);
+    expect(unknown.status).toBe(2);
+    expect(unknown.stderr).toMatch(/unknown profile `nope`; profiles: pcie4-hbm2e/);
+  });
+
+  it('switches the baseline to one core', () => {
+    const node = JSON.parse(runCli(['check', '--format', 'json', 'examples/hall/hall_resident_acc.c']).stdout);
+    const core = JSON.parse(runCli(['check', '--format', 'json', '--baseline', 'core', 'examples/hall/hall_resident_acc.c']).stdout);
+    const s = (j: { files: { timeLoops: { estimate: { speedup: { expected: number } } }[] }[] }): number => j.files[0].timeLoops[0].estimate.speedup.expected;
+    // One core streams 14 GB/s against the node's 460 GB/s, so the device looks far better against one core.
+    expect(s(core)).toBeGreaterThan(10 * s(node));
+  });
+});

@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import Ajv2020 from 'ajv/dist/2020';
 import { analyzeSource, type FileAnalysis } from '../server/src/core/analyze';
 import { languageOfPath } from '../server/src/core/language';
+import type { MachineProfile } from '../server/src/core/machine/profiles';
 import { loadGrammars, type Grammars } from '../server/src/grammars';
 
 export const ROOT = join(__dirname, '..');
@@ -18,9 +19,9 @@ export async function grammarsForTests(): Promise<Grammars> {
   return grammars;
 }
 
-export async function analyzeText(text: string, path = 'test.c', bindings?: Record<string, number>, cacheBytes?: number): Promise<FileAnalysis> {
+export async function analyzeText(text: string, path = 'test.c', bindings?: Record<string, number>, cacheBytes?: number, profile?: MachineProfile): Promise<FileAnalysis> {
   const g = await grammarsForTests();
-  return analyzeSource({ path, text, language: languageOfPath(path) ?? 'c' }, g, { bindings: new Map(Object.entries(bindings ?? {})), cacheBytes });
+  return analyzeSource({ path, text, language: languageOfPath(path) ?? 'c' }, g, { bindings: new Map(Object.entries(bindings ?? {})), cacheBytes, profile });
 }
 
 export async function analyzeFile(path: string): Promise<FileAnalysis> {

@@ -1,26 +1,67 @@
 /** Command-line arguments of `offload-ledger`, parsed with node:util's parseArgs. */
 import { parseArgs } from 'node:util';
 
-export interface CheckArgs {
-  command: 'check';
-  paths: string[];
+export interface CommonArgs {
   format: 'text' | 'json';
   bindings: Map<string, number>;
+  profile?: string;
+  baseline: 'node' | 'core';
+  machines?: string;
 }
 
-export type CliArgs = CheckArgs | { command: 'help' } | { command: 'version' };
+export interface CheckArgs extends CommonArgs {
+  command: 'check';
+  paths: string[];
+}
+
+export interface PlanArgs extends CommonArgs {
+  command: 'plan';
+  paths: string[];
+  runs: number;
+  pool?: { hostNodes: number; deviceNodes: number };
+}
+
+export interface CalibrateArgs {
+  command: 'calibrate';
+  cc: string;
+  out?: string;
+  maxThreads?: number;
+  arrayMiB?: number;
+  format: 'text' | 'json';
+}
+
+export type CliArgs = CheckArgs | PlanArgs | CalibrateArgs | { command: 'help' } | { command: 'version' } | { command: 'serve' };
 
 export class UsageError extends Error {}
 
-export const USAGE = `usage: offload-ledger check [--format text|json] [--bind NAME=VALUE ...] <files or directories>
+export const USAGE = `usage: offload-ledger <command> [options]
 
-  check     read C, C++ and Fortran sources and report loop nests, host-device traffic and findings
-  --format  text (default) or json (follows the published report schema)
-  --bind    give a size symbol a value, e.g. --bind NX=600 (repeatable)
-  --help    this text
-  --version the tool's version
+commands:
+  check <files|dirs>       loop costs, bytes across the link per time step, stale data, suggested data regions
+  plan <files|dirs>        throughput and cost of many independent runs (--runs N, --pool host=H,device=D)
+  calibrate                measure this machine's memory bandwidth and write a host profile
+  serve --stdio            run the language server
+
+options:
+  --format text|json       output format (default text; json follows the published report schema)
+  --bind NAME=VALUE        give a size symbol a value, e.g. --bind NX=600 (repeatable)
+  --profile NAME           machine profile for the estimates (built-in presets or offload-ledger.machines.json)
+  --baseline node|core     host baseline of the speedups: the whole node (default) or one core
+  --machines FILE          machines file (default ./offload-ledger.machines.json when present)
+  --runs N                 plan: number of independent runs
+  --pool host=H,device=D   plan: a mixed pool of H host nodes and D device nodes
+  --cc PATH                calibrate: C compiler with OpenMP (default gcc)
+  --out FILE               calibrate: machines file to write the measured profile into
+  --max-threads N          calibrate: measure 1..N threads (default: all cores)
+  --help, --version
 
 exit status: 0 no error findings, 1 error findings, 2 usage or input errors`;
+
+const positiveInt = (v: string | undefined, name: string): number | undefined => {
+  if (v === undefined) return undefined;
+  if (!/^\d+$/.test(v) || Number(v) < 1) throw new UsageError(`${name} expects a positive integer, got \`${v}\``);
+  return Number(v);
+};
 
 export function parseCli(argv: string[]): CliArgs {
   let parsed;
@@ -31,6 +72,17 @@ export function parseCli(argv: string[]): CliArgs {
       options: {
         format: { type: 'string', short: 'f' },
         bind: { type: 'string', short: 'b', multiple: true },
+        profile: { type: 'string' },
+        baseline: { type: 'string' },
+        machines: { type: 'string' },
+        runs: { type: 'string' },
+        pool: { type: 'string' },
+        cc: { type: 'string' },
+        out: { type: 'string' },
+        'max-threads': { type: 'string' },
+        'array-mib': { type: 'string' },
+        stdio: { type: 'boolean' },
+        'node-ipc': { type: 'boolean' },
         help: { type: 'boolean', short: 'h' },
         version: { type: 'boolean', short: 'v' },
       },
@@ -43,15 +95,33 @@ export function parseCli(argv: string[]): CliArgs {
   if (values.version) return { command: 'version' };
   const [command, ...paths] = positionals;
   if (!command) throw new UsageError('missing command; try `offload-ledger check <files>`');
-  if (command !== 'check') throw new UsageError(`unknown command \`${command}\`; the commands are: check`);
-  if (paths.length === 0) throw new UsageError('`check` needs at least one file or directory');
   const format = values.format ?? 'text';
   if (format !== 'text' && format !== 'json') throw new UsageError(`unknown format \`${format}\`; use text or json`);
+  if (command === 'serve') return { command: 'serve' };
+  if (command === 'calibrate') {
+    return {
+      command: 'calibrate', cc: values.cc ?? 'gcc', out: values.out, format,
+      maxThreads: positiveInt(values['max-threads'], '--max-threads'), arrayMiB: positiveInt(values['array-mib'], '--array-mib'),
+    };
+  }
+  if (command !== 'check' && command !== 'plan') throw new UsageError(`unknown command \`${command}\`; the commands are: check, plan, calibrate, serve`);
+  if (paths.length === 0) throw new UsageError(`\`${command}\` needs at least one file or directory`);
   const bindings = new Map<string, number>();
   for (const b of values.bind ?? []) {
     const m = /^\s*([A-Za-z_][\w.%>-]*)\s*=\s*(-?\d+)\s*$/.exec(b);
     if (!m) throw new UsageError(`--bind expects NAME=INTEGER, got \`${b}\``);
     bindings.set(m[1], Number(m[2]));
   }
-  return { command: 'check', paths, format, bindings };
+  const baseline = values.baseline ?? 'node';
+  if (baseline !== 'node' && baseline !== 'core') throw new UsageError(`unknown baseline \`${baseline}\`; use node or core`);
+  const common: CommonArgs = { format, bindings, profile: values.profile, baseline, machines: values.machines };
+  if (command === 'check') return { command, paths, ...common };
+  const runs = positiveInt(values.runs, '--runs') ?? 1;
+  let pool: PlanArgs['pool'];
+  if (values.pool !== undefined) {
+    const m = /^\s*host=(\d+)\s*,\s*device=(\d+)\s*$/.exec(values.pool);
+    if (!m) throw new UsageError(`--pool expects host=H,device=D, got \`${values.pool}\``);
+    pool = { hostNodes: Number(m[1]), deviceNodes: Number(m[2]) };
+  }
+  return { command, paths, runs, pool, ...common };
 }

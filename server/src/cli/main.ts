@@ -6,43 +6,60 @@ import { analyzeSource, type FileAnalysis } from '../core/analyze';
 import { report } from '../core/report';
 import { TOOL_VERSION } from '../core/report';
 import { loadGrammars } from '../grammars';
-import { USAGE, UsageError, parseCli } from './args';
+import { type CheckArgs, type PlanArgs, USAGE, UsageError, parseCli } from './args';
+import { measure, writeProfile } from './calibrate';
 import { InputError, collectSources, readSource } from './files';
+import { chooseProfile, readMachinesFile } from './machines';
+import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
 
-export async function run(argv: string[], out: (s: string) => void, err: (s: string) => void): Promise<number> {
-  let args;
+type Out = (s: string) => void;
+
+export async function run(argv: string[], out: Out, err: Out): Promise<number> {
   try {
-    args = parseCli(argv);
+    const args = parseCli(argv);
+    switch (args.command) {
+      case 'help':
+        out(USAGE);
+        return 0;
+      case 'version':
+        out(TOOL_VERSION);
+        return 0;
+      case 'serve':
+        err('offload-ledger: the language server is started by the VS Code extension; `serve` is not available in this build');
+        return 2;
+      case 'calibrate': {
+        const { host, measurements } = measure(args, err);
+        const file = writeProfile(host, args.out);
+        if (args.format === 'json') out(JSON.stringify({ file, host, measurements }, null, 2));
+        else out(`wrote profile \`measured\` to ${file}: ${(host.bandwidthNode / 1e9).toFixed(1)} GB/s node, ${(host.bandwidthCore / 1e9).toFixed(1)} GB/s one core; use it with --profile measured`);
+        return 0;
+      }
+      default:
+        return await analyse(args, out, err);
+    }
   } catch (e) {
-    if (e instanceof UsageError) {
+    if (e instanceof UsageError || e instanceof InputError) {
       err(`offload-ledger: ${e.message}`);
       return 2;
     }
     throw e;
   }
-  if (args.command === 'help') {
-    out(USAGE);
-    return 0;
-  }
-  if (args.command === 'version') {
-    out(TOOL_VERSION);
-    return 0;
-  }
-  let analyses: FileAnalysis[];
-  try {
-    const files = collectSources(args.paths).map(readSource);
-    const grammars = await loadGrammars();
-    analyses = files.map((f) => analyzeSource(f, grammars, { bindings: args.bindings }));
-  } catch (e) {
-    if (e instanceof InputError) {
-      err(`offload-ledger: ${e.message}`);
-      return 2;
-    }
-    throw e;
-  }
+}
+
+async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<number> {
+  const profile = chooseProfile(readMachinesFile(args.machines), args.profile);
+  const files = collectSources(args.paths).map(readSource);
+  const grammars = await loadGrammars();
+  const analyses: FileAnalysis[] = files.map((f) => analyzeSource(f, grammars, { bindings: args.bindings, profile, baseline: args.baseline }));
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);
+  }
+  if (args.command === 'plan') {
+    const plans = planFiles(analyses, args);
+    if (args.format === 'json') out(JSON.stringify({ ...report(analyses), planning: plans }, null, 2));
+    else out(formatPlans(plans, profile.name));
+    return 0;
   }
   if (args.format === 'json') out(JSON.stringify(report(analyses), null, 2));
   else out(analyses.map(formatFile).join('\n\n'));
