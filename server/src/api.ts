@@ -5,3 +5,10 @@ export { report } from './core/report';
 export { applyLineEdits } from './core/data/edits';
 export { loadGrammars } from './grammars';
 export { languageOfPath } from './core/language';
+export { presetProfile } from './core/machine/profiles';
+import { resolveProfiles, type MachinesFile } from './core/machine/resolve';
+
+/** A named profile of a parsed machines file (for scripts; the CLI validates the file first). */
+export function profileFromMachines(file: MachinesFile, name: string) {
+  return resolveProfiles(file).profiles.get(name);
+}
