@@ -10,6 +10,7 @@ import { buildCModel } from './frontend/c';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
+import { raceFindings } from './analysis/races';
 import { type TimeLoopLedger, dataLedger } from './data/ledger';
 import { applyLineEdits } from './data/edits';
 import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/profiles';
@@ -117,6 +118,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       const estimate = nestEstimate(iterations.value, cost, profile, baseline);
       result.nests.push({ nest, iterations, approximate: it.triangular, cost, estimate });
     }
+    result.findings.push(...raceFindings(result.model, scan.nests, (n) => bind(n)));
     const strides = new Map<string, S.Expr[][]>();
     for (const r of result.nests) {
       for (const f of r.cost.footprints) strides.set(f.array, [...(strides.get(f.array) ?? []), f.strides]);

@@ -42,36 +42,65 @@ export class CStatementBuilder {
   /** Converts a sequence of sibling nodes, attaching construct directives to the next statement. */
   list(nodes: Node[]): Stmt[] {
     const out: Stmt[] = [];
-    let pending: Directive[] = [];
-    for (const n of nodes) {
-      if (n.type === 'preproc_call') {
-        const d = this.directive(n);
-        if (!d) continue;
-        if (isStandaloneDirective(d)) out.push({ kind: 'directive', directive: d, range: d.range, directives: [] });
-        else pending.push(d);
-        continue;
-      }
-      if (n.type === 'preproc_def' || n.type === 'preproc_function_def') {
+    let k = 0;
+    while (k < nodes.length) {
+      const taken = this.take(nodes, k);
+      out.push(...taken.stmts);
+      k = taken.next;
+    }
+    return out;
+  }
+
+  /**
+   * Reads the statement starting at nodes[k] with the directives before it. A `for` followed by a
+   * pragma and then its body (`for (…)\n#pragma acc loop\nfor (…)`) is common in ported code;
+   * tree-sitter gives such a loop an empty body and makes the pragma and the real body its
+   * siblings, so the loop takes the next statement (with its pragmas) back as its body here.
+   */
+  private take(nodes: Node[], k: number): { stmts: Stmt[]; next: number } {
+    const pending: Directive[] = [];
+    const out: Stmt[] = [];
+    let i = k;
+    while (i < nodes.length && ['preproc_call', 'preproc_def', 'preproc_function_def'].includes(nodes[i].type)) {
+      const n = nodes[i++];
+      if (n.type !== 'preproc_call') {
         this.define(n);
         continue;
       }
-      const stmts = this.statement(n);
-      if (stmts.length === 0) continue;
-      if (pending.length > 0) {
-        stmts[0].directives.push(...pending);
-        pending = [];
+      const d = this.directive(n);
+      if (!d) continue;
+      if (isStandaloneDirective(d)) out.push({ kind: 'directive', directive: d, range: d.range, directives: [] });
+      else pending.push(d);
+    }
+    if (i >= nodes.length) {
+      for (const d of pending) {
+        this.ctx.findings.push({
+          code: 'directive-syntax',
+          severity: 'error',
+          range: d.range,
+          message: `\`${d.construct}\` must be followed by the statement it applies to (a loop or a structured block); nothing follows it here.`,
+        });
       }
-      out.push(...stmts);
+      return { stmts: out, next: i };
     }
-    for (const d of pending) {
-      this.ctx.findings.push({
-        code: 'directive-syntax',
-        severity: 'error',
-        range: d.range,
-        message: `\`${d.construct}\` must be followed by the statement it applies to (a loop or a structured block); nothing follows it here.`,
-      });
+    const n = nodes[i];
+    let stmts: Stmt[];
+    let next = i + 1;
+    if (hasDetachedBody(n) && next < nodes.length) {
+      const body = this.withLoopScope(n, () => this.take(nodes, next));
+      stmts = [this.forLoop(n, body.stmts)];
+      next = body.next;
+    } else {
+      stmts = this.statement(n);
     }
-    return out;
+    if (stmts.length > 0 && pending.length > 0) stmts[0].directives.push(...pending);
+    else if (pending.length > 0) {
+      // A directive before a declaration without initialiser: keep it on the next statement.
+      const rest = this.take(nodes, next);
+      if (rest.stmts.length > 0) rest.stmts[0].directives.unshift(...pending);
+      return { stmts: [...out, ...rest.stmts], next: rest.next };
+    }
+    return { stmts: [...out, ...stmts], next };
   }
 
   /** Reads a `#pragma` line; non-offload pragmas (`#pragma once`, `#pragma GCC …`) give undefined. */
@@ -234,8 +263,8 @@ export class CStatementBuilder {
    * Reads `for (init; cond; update)` into inclusive bounds and a positive step. Decreasing loops
    * are normalised to the same increasing range, since every analysis here is order-independent.
    */
-  private forLoop(n: Node): LoopStmt {
-    const body = field(n, 'body');
+  private forLoop(n: Node, detachedBody?: Stmt[]): LoopStmt {
+    const body = detachedBody ? undefined : field(n, 'body');
     const loop = this.loopWithoutBounds(n, undefined, undefined);
     const init = readInit(field(n, 'initializer'), this.ctx.exprs);
     const stepInfo = readStep(field(n, 'update'), this.ctx.exprs);
@@ -263,7 +292,13 @@ export class CStatementBuilder {
         loop.triangular = this.loopVars.some((v) => mentioned.has(v)) || undefined;
       }
     }
-    loop.header = this.ctx.text.slice(n.startIndex, body ? body.startIndex : n.endIndex).trim();
+    loop.header = this.ctx.text.slice(n.startIndex, body ? body.startIndex : n.endIndex).trim().replace(/;$/, '');
+    if (detachedBody) {
+      loop.body = detachedBody;
+      const last = detachedBody[detachedBody.length - 1];
+      if (last) loop.range = { start: loop.range.start, end: last.range.end };
+      return loop;
+    }
     this.loopVars.push(variable ?? '');
     try {
       loop.body = this.block(body);
@@ -271,6 +306,19 @@ export class CStatementBuilder {
       this.loopVars.pop();
     }
     return loop;
+  }
+
+  /** Runs `f` with the loop's variable counted as an enclosing loop variable (for triangular bounds). */
+  private withLoopScope<T>(n: Node, f: () => T): T {
+    const init = field(n, 'initializer');
+    const decl = init?.type === 'declaration' ? namedChildren(init).find((c) => c.type === 'init_declarator') : undefined;
+    const name = decl ? field(decl, 'declarator')?.text : init?.type === 'assignment_expression' ? field(init, 'left')?.text : undefined;
+    this.loopVars.push(name ?? '');
+    try {
+      return f();
+    } finally {
+      this.loopVars.pop();
+    }
   }
 }
 
@@ -360,4 +408,11 @@ function readCondition(node: Node | undefined, variable: string | undefined, exp
 /** The statement range of a single expression statement is the expression plus its `;`. */
 function mergeEnd(inner: Stmt['range'], outer: Stmt['range']): Stmt['range'] {
   return inner.start.line === outer.start.line && inner.start.col === outer.start.col ? outer : inner;
+}
+
+/** A `for`/`while` whose body tree-sitter left empty because a pragma came between header and body. */
+function hasDetachedBody(n: Node): boolean {
+  if (n.type !== 'for_statement') return false;
+  const body = field(n, 'body');
+  return !!body && body.type === 'expression_statement' && body.text.trim() === '' && body.hasError;
 }

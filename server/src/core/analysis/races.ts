@@ -1,0 +1,258 @@
+/**
+ * Races in offloaded loops: loop-carried dependences in the dimensions a directive runs in
+ * parallel, and scalar accumulations without a reduction clause.
+ *
+ * Dependences: for two references to one array, at least one a write, with the same affine
+ * coefficients (uniform dependence, the stencil case) the distance vector is exact; the loop it
+ * is carried by is its first non-zero component in nesting order (Wolfe 1996; Allen & Kennedy
+ * 2001). A distance is possible only when it is smaller than the loop's trip count (Banerjee's
+ * bounds). With different coefficients the GCD test proves independence when the gcd of the
+ * coefficients does not divide the constant difference; otherwise the pair is left unreported
+ * rather than guessed.
+ */
+import * as S from '../symbolic';
+import type { ArrayAccess, LoopStmt, ProgramModel, Stmt, VExpr } from '../model/program';
+import { clausesNamed, collapseCount, isLoopDirective } from '../model/directives';
+import { accessesOfStatement, childStatements, printValue, walkStatements } from '../model/values';
+import { linearise } from '../cost/footprint';
+import { Scope } from '../cost/scope';
+import type { Directive, Finding, Fix, Range } from '../types';
+import type { LoopNest } from './nests';
+
+export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>): Finding[] {
+  const out: Finding[] = [];
+  for (const nest of nests) {
+    if (!nest.offload) continue;
+    const parallel = parallelLoops(nest);
+    if (parallel.size > 0) out.push(...dependences(model, nest, parallel, bindingsOf(nest)));
+    out.push(...reductions(model, nest));
+  }
+  return out;
+}
+
+/** Loops of the nest that a directive runs in parallel (collapse counts; `seq` excludes). */
+export function parallelLoops(nest: LoopNest): Set<LoopStmt> {
+  const out = new Set<LoopStmt>();
+  const visit = (loop: LoopStmt, remainingCollapse: number): void => {
+    const d = loop.directives.find(isLoopDirective);
+    let collapse = remainingCollapse;
+    if (d && !d.clauses.some((c) => c.canonical === 'seq')) {
+      out.add(loop);
+      collapse = collapseCount(d) - 1;
+    } else if (remainingCollapse > 0) {
+      out.add(loop);
+      collapse = remainingCollapse - 1;
+    } else {
+      collapse = 0;
+    }
+    for (const s of loop.body) walkLoops(s, (l) => visit(l, collapse));
+  };
+  visit(nest.root, 0);
+  return out;
+}
+
+function walkLoops(s: Stmt, f: (l: LoopStmt) => void): void {
+  if (s.kind === 'loop') {
+    f(s);
+    return;
+  }
+  for (const c of childStatements(s)) walkLoops(c, f);
+}
+
+interface Ref {
+  access: ArrayAccess;
+  coeffs: Map<string, S.Expr>;
+  rest: S.Expr;
+}
+
+function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>): Finding[] {
+  const scope = new Scope(model, nest.procedure);
+  const loops: LoopStmt[] = [];
+  walkStatements([nest.root], (s) => { if (s.kind === 'loop') loops.push(s); });
+  const vars = loops.map((l) => l.variable).filter((v): v is string => !!v);
+  const outer = new Map([...bindings].filter(([k]) => !vars.includes(k)));
+  const refs = new Map<string, Ref[]>();
+  walkStatements([nest.root], (s) => {
+    for (const a of accessesOfStatement(s)) {
+      if (a.subscripts.length === 0 || a.subscripts.some((x) => !x)) continue;
+      const decl = scope.lookup(a.array);
+      if (decl && !decl.isArray) continue;
+      const subs = (a.subscripts as S.Expr[]).map((x) => S.substitute(x, outer));
+      const parts = S.affine(linearise(subs, decl, model.layout, a.array), vars);
+      if (!parts) continue;
+      refs.set(a.array, [...(refs.get(a.array) ?? []), { access: a, coeffs: parts.coeffs, rest: parts.rest }]);
+    }
+  });
+  const out: Finding[] = [];
+  const seen = new Set<string>();
+  for (const [array, list] of refs) {
+    for (const w of list.filter((r) => r.access.isWrite)) {
+      for (const x of list) {
+        if (x === w && !x.access.isRead) continue;
+        const carried = carrier(w, x, loops, parallel, outer);
+        if (!carried) continue;
+        const id = `${array}:${x.access.range.start.line}:${x.access.range.start.col}`;
+        if (seen.has(id)) continue;
+        seen.add(id);
+        out.push(message(array, w, x, carried));
+      }
+    }
+  }
+  return out;
+}
+
+interface Carried {
+  loop: LoopStmt;
+  distance: number;
+  kind: 'flow' | 'anti' | 'output';
+}
+
+/** The loop that carries a dependence from write `w` to reference `x`, when it is a parallel one. */
+function carrier(w: Ref, x: Ref, loops: LoopStmt[], parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>): Carried | undefined {
+  const vars = loops.map((l) => l.variable ?? '');
+  const same = vars.every((v) => S.equals(w.coeffs.get(v) ?? S.num(0), x.coeffs.get(v) ?? S.num(0)));
+  const diff = S.sub(x.rest, w.rest);
+  if (!same) return undefined;
+  // Uniform: solve Σ c_v d_v = -(diff) over the loops by the coefficients' sizes (largest first).
+  const probe = probeValues([...w.coeffs.values(), diff]);
+  const coeffs = vars.map((v) => S.evaluate(w.coeffs.get(v) ?? S.num(0), probe) ?? NaN);
+  let rest = S.evaluate(diff, probe);
+  if (rest === undefined || coeffs.some((c) => !Number.isFinite(c))) return undefined;
+  if (rest === 0) return undefined;
+  // GCD test: no integer distance exists when the gcd of the coefficients does not divide the difference.
+  const g = coeffs.filter((c) => c !== 0).reduce((a, b) => gcd(a, Math.abs(b)), 0);
+  if (g === 0 || rest % g !== 0) return undefined;
+  const order = coeffs.map((c, k) => ({ c, k })).filter((e) => e.c !== 0).sort((a, b) => Math.abs(b.c) - Math.abs(a.c));
+  const distance = vars.map(() => 0);
+  for (const { c, k } of order) {
+    const q = Math.round(rest / c);
+    distance[k] = q;
+    rest -= q * c;
+  }
+  if (rest !== 0) return undefined;
+  // x touches the element that w touched `distance` iterations earlier (w at i, x at i + d reads w's i).
+  const first = distance.findIndex((d) => d !== 0);
+  if (first < 0) return undefined;
+  const loop = loops[first];
+  if (!parallel.has(loop)) return undefined;
+  const trips = loop.tripCount ? S.evaluate(loop.tripCount, bindings) : undefined;
+  if (trips !== undefined && Math.abs(distance[first]) >= trips) return undefined;
+  // d < 0: x reaches back to an element an earlier iteration wrote (flow); d > 0: forward (anti).
+  const kind: Carried['kind'] = !x.access.isRead ? 'output' : distance[first] < 0 ? 'flow' : 'anti';
+  return { loop, distance: Math.abs(distance[first]), kind };
+}
+
+function gcd(a: number, b: number): number {
+  return b === 0 ? a : gcd(b, a % b);
+}
+
+function probeValues(exprs: S.Expr[]): Map<string, number> {
+  const out = new Map<string, number>();
+  let next = 10_007;
+  for (const e of exprs) for (const s of S.freeSymbols(e)) if (!out.has(s)) { out.set(s, next); next += 1_009; }
+  return out;
+}
+
+function message(array: string, w: Ref, x: Ref, c: Carried): Finding {
+  const v = c.loop.variable ?? '?';
+  const wText = `${array}[${w.access.subscriptText.join('][')}]`;
+  const xText = `${array}[${x.access.subscriptText.join('][')}]`;
+  const what = c.kind === 'flow'
+    ? `iteration ${v} reads \`${xText}\`, which iteration ${v} - ${c.distance} writes as \`${wText}\``
+    : c.kind === 'anti'
+      ? `iteration ${v} reads \`${xText}\`, which iteration ${v} + ${c.distance} overwrites as \`${wText}\``
+      : `iterations ${c.distance} apart both write the same element (\`${wText}\`, \`${xText}\`)`;
+  return {
+    code: 'loop-carried-dependence', severity: 'error', range: x.access.range, array,
+    message: `This loop runs \`${v}\` in parallel, but ${what} (a loop-carried ${c.kind} dependence at distance ${c.distance} in \`${v}\`), so the result depends on the order the iterations run. Keep \`${v}\` sequential, or write into a second array as a Jacobi sweep does.`,
+  };
+}
+
+// ---- reductions -----------------------------------------------------------------------
+
+interface Accumulation {
+  name: string;
+  op: string;
+  range: Range;
+}
+
+/**
+ * Scalars that an offloaded loop accumulates (`s += …`, `s = s * …`, `s = max(s, …)`) whose first
+ * use in an iteration reads the previous value, with no reduction clause: they are firstprivate
+ * by default (OpenACC 3.3 §2.6.2; OpenMP 5.2 data-sharing rules), so the host never sees the sum.
+ */
+function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
+  const d = nest.offload!;
+  const directives = [d, ...nestDirectives(nest)];
+  const reduced = new Set(directives.flatMap((x) => clausesNamed(x, 'reduction', 'private', 'firstprivate', 'lastprivate').flatMap((c) => c.vars ?? []).map((v) => v.name)));
+  const scope = new Scope(model, nest.procedure);
+  const declaredInside = (name: string): boolean => {
+    const decl = nest.procedure.locals.find((l) => l.name === name);
+    return !!decl && within(decl.range, nest.root.range);
+  };
+  const firstUse = new Map<string, 'write' | Accumulation>();
+  const loopVars = new Set<string>();
+  walkStatements([nest.root], (s) => {
+    if (s.kind === 'loop' && s.variable) loopVars.add(s.variable);
+    if (s.kind !== 'assign' || s.target.kind !== 'var') return;
+    const name = s.target.name;
+    if (firstUse.has(name)) return;
+    const acc = accumulation(name, s.op, s.value);
+    firstUse.set(name, acc ? { name, op: acc, range: s.range } : 'write');
+  });
+  const out: Finding[] = [];
+  for (const [name, use] of firstUse) {
+    if (use === 'write' || reduced.has(name) || loopVars.has(name) || declaredInside(name)) continue;
+    const decl = scope.lookup(name);
+    if (decl?.isArray) continue;
+    const loopDirective = nest.root.directives.find(isLoopDirective) ?? d;
+    out.push({
+      code: 'missing-reduction', severity: 'error', range: use.range, array: name,
+      message: `This offloaded loop accumulates into \`${name}\` (\`${name} = ${use.op === 'max' || use.op === 'min' ? `${use.op}(${name}, …)` : `${name} ${use.op} …`}\`) without a reduction clause; \`${name}\` is firstprivate by default, so each thread sums into its own copy and the host never sees the total. Add \`reduction(${use.op}:${name})\` to the loop directive.`,
+      fixes: [reductionFix(loopDirective, use.op, name)],
+    });
+  }
+  return out;
+}
+
+function nestDirectives(nest: LoopNest): Directive[] {
+  const out: Directive[] = [];
+  walkStatements([nest.root], (s) => { out.push(...s.directives); });
+  return out;
+}
+
+function within(inner: Range, outer: Range): boolean {
+  const before = (a: Range['start'], b: Range['start']): boolean => a.line < b.line || (a.line === b.line && a.col <= b.col);
+  return before(outer.start, inner.start) && before(inner.end, outer.end);
+}
+
+/** The reduction operator an assignment to `name` accumulates with, if it does. */
+function accumulation(name: string, op: string, value: VExpr): string | undefined {
+  const mentions = (e: VExpr): boolean => printValue(e).split(/[^\w.%>-]+/).includes(name);
+  if (op === '+=' || op === '-=') return '+';
+  if (op === '*=') return '*';
+  if (op !== '=') return undefined;
+  if (value.kind === 'bin' && (value.op === '+' || value.op === '-' || value.op === '*')) {
+    const isSelf = (e: VExpr): boolean => e.kind === 'var' && e.name === name;
+    if (isSelf(value.left) || (value.op !== '-' && isSelf(value.right))) return value.op === '*' ? '*' : '+';
+  }
+  if (value.kind === 'call' && value.args.some((a) => a.kind === 'var' && a.name === name)) {
+    const f = value.name.toLowerCase();
+    if (['max', 'fmax', 'fmaxf', 'amax1', 'dmax1'].includes(f)) return 'max';
+    if (['min', 'fmin', 'fminf', 'amin1', 'dmin1'].includes(f)) return 'min';
+  }
+  if (value.kind === 'cond' && mentions(value.test)) {
+    const t = printValue(value.test);
+    if (/>/.test(t)) return 'max';
+    if (/</.test(t)) return 'min';
+  }
+  return undefined;
+}
+
+/** Appends `reduction(op:name)` at the end of the directive (before a trailing comment or continuation). */
+function reductionFix(d: Directive, op: string, name: string): Fix {
+  return {
+    title: `Add reduction(${op}:${name}) to this ${d.family === 'openacc' ? 'OpenACC' : 'OpenMP'} directive`,
+    edits: [{ range: { start: d.range.end, end: d.range.end }, newText: ` reduction(${op}:${name})` }],
+  };
+}
