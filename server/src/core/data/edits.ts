@@ -17,3 +17,18 @@ export function applyLineEdits(text: string, edits: readonly LineEdit[]): string
   for (const [line, texts] of before) if (line > lines.length) out.splice(out.length - (lines[lines.length - 1] === '' ? 1 : 0), 0, ...texts);
   return out.join('\n');
 }
+
+/**
+ * Applies text edits (0-based ranges) the way an LSP client does: all ranges refer to the
+ * original text; edits at the same position apply in the order given.
+ */
+export function applyTextEdits(text: string, edits: readonly import('../types').TextEdit[]): string {
+  const lineStarts = [0];
+  for (let i = 0; i < text.length; i++) if (text[i] === '\n') lineStarts.push(i + 1);
+  const offset = (p: import('../types').Pos): number => Math.min(text.length, (lineStarts[p.line] ?? text.length) + p.col);
+  const indexed = edits.map((e, k) => ({ start: offset(e.range.start), end: offset(e.range.end), text: e.newText, k }));
+  indexed.sort((a, b) => b.start - a.start || b.k - a.k);
+  let out = text;
+  for (const e of indexed) out = out.slice(0, e.start) + e.text + out.slice(e.end);
+  return out;
+}

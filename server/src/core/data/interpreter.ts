@@ -12,7 +12,8 @@ import type { Directive, Finding, Range } from '../types';
 import { type ArrayInfo, arrayInfo } from './arrays';
 import { type DataEntry, dataEntries, defaultMode, motionEntries, privateNames } from './clauses';
 import { periodicGuard } from './guards';
-import { type Region, covers, overlaps, regionSize, subtract, union, wholeBox } from './regions';
+import { type Region, covers, intersect, overlaps, regionSize, subtract, union, wholeBox } from './regions';
+import { regionSectionText, touchSectionText } from './slices';
 import { type LoopRanges, type Section, accessRegion, clauseSection, wholeBytes } from './sections';
 import { DataEnvironment } from './state';
 
@@ -114,9 +115,22 @@ interface Ctx {
 
 const MAX_CALL_DEPTH = 8;
 
+/** What a quick fix for a coherence finding needs: which update, of what, next to which statement. */
+export interface FixHint {
+  direction: 'toDevice' | 'toHost';
+  section: string;
+  anchor: Stmt;
+  ancestors: Stmt[];
+  where: 'before' | 'after';
+}
+
 export class DataInterpreter {
   readonly env = new DataEnvironment();
   readonly findings: Finding[] = [];
+  /** Quick-fix material for findings, kept beside them so the finding type stays plain. */
+  readonly hints = new Map<Finding, FixHint>();
+  /** Clause replacements for already-present findings (OpenACC: copy(...) → present(...)). */
+  readonly presentFixes = new Map<Finding, { range: Range; text: string; directive: Directive }>();
   readonly runs: TimeLoopRun[] = [];
   /** Transfers outside time loops, with the allocation they belong to. */
   readonly outside: TransferRecord[] = [];
@@ -339,8 +353,15 @@ export class DataInterpreter {
       }
       if (!st.present) continue;
       if (a.isRead && overlaps(st.deviceNewer, region)) {
-        this.finding('stale-on-host', a.range, key,
+        const f = this.finding('stale-on-host', a.range, key,
           `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; add \`update self\` (OpenACC) / \`target update from\` (OpenMP) for that slice just before this line.`);
+        if (f) {
+          const top = ctx.frame.depth === 0;
+          const touch: HostTouch = { key, kind: 'read', access: a, region, anchor: s, ancestors: [], loops: ctx.hostLoops, bindings: ctx.frame.bindings, rename: ctx.frame.rename };
+          const symbolic = this.localBindings(ctx.frame);
+          const section = touchSectionText(touch, key, info, this.model.language, symbolic) ?? regionSectionText(region, key, info, this.model.language);
+          this.hints.set(f, { direction: 'toHost', section, anchor: top ? ctx.anchor ?? s : s, ancestors: top ? ctx.ancestors : [], where: 'before' });
+        }
       }
       if (a.isWrite) {
         st.hostNewer = union(st.hostNewer, region);
@@ -428,8 +449,13 @@ export class DataInterpreter {
       const st = this.env.state(key);
       if (st.present && overlaps(st.hostNewer, region)) {
         const info = this.info(key, ctx.frame, localName(key, ctx.frame));
-        this.finding('stale-on-device', d.range, key,
+        const f = this.finding('stale-on-device', d.range, key,
           `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; add \`update device\` (OpenACC) / \`target update to\` (OpenMP) for that slice after the host write.`);
+        if (f) {
+          const top = ctx.frame.depth === 0;
+          const section = regionSectionText(intersect(st.hostNewer, region), key, info, this.model.language);
+          this.hints.set(f, { direction: 'toDevice', section, anchor: top ? ctx.anchor ?? s : s, ancestors: top ? ctx.ancestors : [], where: 'before' });
+        }
         st.hostNewer = subtract(st.hostNewer, region);
       }
     }
@@ -480,8 +506,13 @@ export class DataInterpreter {
       else st.dynamic++;
       const moves = e.action === 'copy' || e.action === 'copyin';
       if (wasPresent && (e.action === 'copy' || e.action === 'copyin' || e.action === 'copyout') && !e.always) {
-        this.finding('already-present', e.ref.range, key,
+        const f = this.finding('already-present', e.ref.range, key,
           `\`${e.ref.text}\` is already present on the device here (an enclosing data region or enter data made it present), so this \`${e.clause.name}\` moves nothing: data clauses act only on data that is not yet present (OpenACC 3.3 §2.7, OpenMP reference counts).`);
+        // Saying `present` states what happens and fails loudly if the region is ever removed.
+        const allPresent = (e.clause.vars ?? []).every((v) => this.env.state(this.key(v.name, ctx.frame)).present);
+        if (f && d.family === 'openacc' && allPresent && e.clause.args !== undefined) {
+          this.presentFixes.set(f, { range: e.clause.range, text: `present(${e.clause.args.trim()})`, directive: d });
+        }
       }
       if (moves && (!wasPresent || e.always)) {
         this.transfer(ctx, d.range, key, 'toDevice', section.bytes, cause === 'clause' ? 'clause' : 'enter', st.allocation, section.whole, e.ref.range);
@@ -574,11 +605,13 @@ export class DataInterpreter {
     if (run.residentPeak !== null) run.residentPeak = total === null ? null : Math.max(run.residentPeak, total);
   }
 
-  private finding(code: Finding['code'], range: Range, array: string, message: string): void {
+  private finding(code: Finding['code'], range: Range, array: string, message: string): Finding | undefined {
     const id = `${code}:${range.start.line}:${range.start.col}:${array}`;
-    if (this.seenFindings.has(id)) return;
+    if (this.seenFindings.has(id)) return undefined;
     this.seenFindings.add(id);
-    this.findings.push({ code, severity: code.startsWith('stale') ? 'error' : 'info', range, message, array });
+    const f: Finding = { code, severity: code.startsWith('stale') ? 'error' : 'info', range, message, array };
+    this.findings.push(f);
+    return f;
   }
 }
 

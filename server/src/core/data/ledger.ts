@@ -8,13 +8,14 @@ import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
 import type { TimeLoop } from '../analysis/nests';
 import type { Quantity } from '../analysis/bindings';
 import { quantity } from '../analysis/bindings';
-import type { DirectiveFamily, Finding, Range } from '../types';
+import type { DirectiveFamily, Finding, Fix, Range, TextEdit } from '../types';
 import { isOffloadCompute } from '../model/directives';
 import { walkStatements } from '../model/values';
 import { DataInterpreter, type TimeLoopRun, type TransferRecord } from './interpreter';
 import { type Region, regionSize, subtract } from './regions';
 import { regionSectionText } from './slices';
-import { type DataRegionSuggestion, suggestDataRegion } from './suggest';
+import { type DataRegionSuggestion, suggestDataRegion, updateDirective, updateLines } from './suggest';
+import { touchSectionText } from './slices';
 
 export interface TransferReport {
   range: Range;
@@ -62,6 +63,7 @@ export function dataLedger(
   for (const proc of new Set(outer.map((t) => t.procedure))) {
     const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides);
     interp.runProcedure(proc);
+    attachCoherenceFixes(interp, model, text, family);
     findings.push(...interp.findings);
     const bindings = bindingsOf(proc);
     for (const run of interp.runs) {
@@ -78,7 +80,10 @@ export function dataLedger(
         once: { toDevice: once('toDevice'), toHost: once('toHost') }, transfers, dataRegion, residentBytes: run.residentPeak, run,
       };
       ledgers.push(ledger);
-      findings.push(...transferFindings(ledger, bindings), ...widerUpdateFindings(ledger, interp, model), ...memoryFindings(ledger, options));
+      const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
+      const fromTransfers = transferFindings(ledger, bindings);
+      for (const f of fromTransfers) if (regionFix && (f.code === 'implicit-transfer' || f.severity === 'warning')) f.fixes = [regionFix];
+      findings.push(...fromTransfers, ...widerUpdateFindings(ledger, interp, model), ...memoryFindings(ledger, options));
     }
   }
   return { ledgers, findings };
@@ -158,8 +163,13 @@ function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: 
     const total = info.shape.extents.reduce((a, b) => a * b, 1);
     const needed = regionSize(mergeDisjoint(touched));
     if (touched.length === 0 || needed >= total) continue;
-    const slice = regionSectionText(touched, t.array, info, model.language);
+    const touches = l.run.hostTouches.filter((h) => h.key === t.array && h.kind === kind);
+    const fileNames = new Set(model.bindings.keys());
+    const texts = [...new Set(touches.map((h) => touchSectionText(h, t.array, info, model.language, new Map([...h.bindings].filter(([k]) => !fileNames.has(k))))))];
+    const slice = texts.length === 1 && texts[0] ? texts[0] : regionSectionText(touched, t.array, info, model.language);
+    const fixes = t.at ? [{ title: `Narrow the update to \`${slice}\``, edits: [{ range: t.at, newText: slice }] }] : undefined;
     out.push({
+      fixes,
       code: 'update-wider-than-needed', severity: 'warning', range: t.range, array: t.array,
       message: `This update moves all of \`${t.array}\` (${S.formatBytes(total * info.elementBytes)}), but host code in the loop ${kind === 'read' ? 'reads' : 'writes'} only ${needed.toLocaleString('en-US')} element${needed === 1 ? '' : 's'} of it; update just \`${slice}\` (${S.formatBytes(needed * info.elementBytes)}).`,
     });
@@ -172,6 +182,34 @@ function mergeDisjoint(r: Region): Region {
   let acc: Region = [];
   for (const b of r) acc = [...acc, ...subtract([b], acc)];
   return acc;
+}
+
+/** Line insertions (before 1-based lines) as text edits at the start of those lines. */
+export function lineEditsToTextEdits(edits: { line: number; text: string }[]): TextEdit[] {
+  return edits.map((e) => ({ range: { start: { line: e.line - 1, col: 0 }, end: { line: e.line - 1, col: 0 } }, newText: `${e.text}\n` }));
+}
+
+function regionFixOf(r: DataRegionSuggestion): Fix {
+  const n = r.updates.length;
+  const words = r.family === 'openacc' ? 'an OpenACC data region' : 'an OpenMP target data region';
+  return { title: `Keep the arrays on the device: put ${words} around the time loop${n > 0 ? ` (and ${n} update${n === 1 ? '' : 's'} for host code)` : ''}`, edits: lineEditsToTextEdits(r.edits) };
+}
+
+/** Updates for stale reads and `present` for clauses on data already present. */
+function attachCoherenceFixes(interp: DataInterpreter, model: ProgramModel, text: string, family: DirectiveFamily): void {
+  for (const [f, h] of interp.hints) {
+    const placed = updateLines(h.anchor, h.ancestors, text, model.language, family, h.direction, h.section, h.where);
+    if (!placed) continue;
+    const what = updateDirective(family, model.language, h.direction, h.section).replace(/^[#!]\S*\s+/, '');
+    f.fixes = [{ title: `Add \`${what}\` ${h.where} the ${h.direction === 'toHost' ? 'host code' : 'construct'}`, edits: lineEditsToTextEdits(placed.edits) }];
+  }
+  for (const [f, p] of interp.presentFixes) {
+    const fixes: Fix[] = [{ title: `Write \`${p.text}\`: the data is already on the device`, edits: [{ range: p.range, newText: p.text }] }];
+    if (!p.directive.clauses.some((c) => c.canonical === 'default') && /^(parallel|kernels|serial)/.test(p.directive.construct)) {
+      fixes.push({ title: 'Add default(present) to this construct', edits: [{ range: { start: p.directive.range.end, end: p.directive.range.end }, newText: ' default(present)' }] });
+    }
+    f.fixes = fixes;
+  }
 }
 
 function memoryFindings(l: TimeLoopLedger, options: DataLedgerOptions): Finding[] {

@@ -117,26 +117,38 @@ function addUpdates(out: DataRegionSuggestion, run: TimeLoopRun, model: ProgramM
     const symbolic = new Map([...g.touches[0].bindings].filter(([k]) => !fileNames.has(k)));
     const texts = [...new Set(g.touches.map((t) => touchSectionText(t, g.key, info, lang, symbolic)))];
     const section = texts.length === 1 && texts[0] ? texts[0] : regionSectionText(g.touches.flatMap((t) => t.region), g.key, info, lang);
-    const place = insertionPoint(g.anchor, g.ancestors, text, lang);
-    if (!place) {
+    const direction = g.kind === 'read' ? 'toHost' : 'toDevice';
+    const placed = updateLines(g.anchor, g.ancestors, text, lang, family, direction, section);
+    if (!placed) {
       out.notes.push(`no line to put the ${g.kind === 'read' ? 'update to the host' : 'update to the device'} of \`${g.key}\` near line ${g.anchor.range.start.line + 1}`);
       continue;
     }
-    const direction = g.kind === 'read' ? 'toHost' : 'toDevice';
-    const stmt = place.stmt;
-    const indent = /^\s*/.exec(text.split('\n')[stmt.range.start.line] ?? '')?.[0] ?? '';
-    const before = stmt.range.start.line + 1;
-    const after = stmt.range.end.line + 2;
-    const update = { line: direction === 'toHost' ? before : after, text: `${indent}${updateDirective(family, lang, direction, section)}` };
-    // An unbraced `if`/`for` body gets braces, so that the update stays under the same guard.
-    if (place.wrap) out.edits.push({ line: before, text: `${indent}{` });
-    out.edits.push(update);
-    if (place.wrap) out.edits.push({ line: after, text: `${indent}}` });
-    out.updates.push({ array: g.key, direction, section, line: update.line });
+    out.edits.push(...placed.edits);
+    out.updates.push({ array: g.key, direction, section, line: placed.line });
   }
 }
 
-function updateDirective(family: DirectiveFamily, lang: SourceLanguage, direction: 'toDevice' | 'toHost', section: string): string {
+/**
+ * Lines that put an update before (to the host) or after (to the device) a host statement, or
+ * its nearest enclosing statement that can take one; an unbraced `if`/`for` body gets braces so
+ * that the update stays under the same guard.
+ */
+export function updateLines(anchor: Stmt, ancestors: Stmt[], text: string, lang: SourceLanguage, family: DirectiveFamily, direction: 'toDevice' | 'toHost', section: string, where: 'before' | 'after' = direction === 'toHost' ? 'before' : 'after'): { edits: Edit[]; line: number } | undefined {
+  const place = insertionPoint(anchor, ancestors, text, lang);
+  if (!place) return undefined;
+  const stmt = place.stmt;
+  const indent = /^\s*/.exec(text.split('\n')[stmt.range.start.line] ?? '')?.[0] ?? '';
+  const before = Math.min(stmt.range.start.line, ...stmt.directives.map((d) => d.range.start.line)) + 1;
+  const after = stmt.range.end.line + 2;
+  const update = { line: where === 'before' ? before : after, text: `${indent}${updateDirective(family, lang, direction, section)}` };
+  const edits: Edit[] = [];
+  if (place.wrap) edits.push({ line: before, text: `${indent}{` });
+  edits.push(update);
+  if (place.wrap) edits.push({ line: after, text: `${indent}}` });
+  return { edits, line: update.line };
+}
+
+export function updateDirective(family: DirectiveFamily, lang: SourceLanguage, direction: 'toDevice' | 'toHost', section: string): string {
   const sentinel = lang === 'fortran' ? (family === 'openacc' ? '!$acc' : '!$omp') : family === 'openacc' ? '#pragma acc' : '#pragma omp';
   if (family === 'openacc') return `${sentinel} update ${direction === 'toHost' ? 'self' : 'device'}(${section})`;
   return `${sentinel} target update ${direction === 'toHost' ? 'from' : 'to'}(${section})`;
