@@ -42,6 +42,25 @@ export interface DataRegionSuggestion {
 }
 
 type Kind = 'copy' | 'copyin' | 'copyout' | 'create';
+
+/**
+ * Lines and line offsets of the text being edited. Suggestions and fixes ask for them once per
+ * time loop and per update; splitting an 800 KiB file each time made large files quadratic.
+ */
+let cached: { text: string; lines: string[]; offsets: number[] } | undefined;
+function linesOf(text: string): { lines: string[]; offsets: number[] } {
+  if (cached?.text !== text) {
+    const lines = text.split('\n');
+    const offsets: number[] = [];
+    let o = 0;
+    for (const l of lines) {
+      offsets.push(o);
+      o += l.length + 1;
+    }
+    cached = { text, lines, offsets };
+  }
+  return cached;
+}
 const ompWord: Record<Kind, string> = { copy: 'tofrom', copyin: 'to', copyout: 'from', create: 'alloc' };
 const ORDER: Kind[] = ['copyin', 'copy', 'copyout', 'create'];
 
@@ -75,7 +94,7 @@ export function suggestDataRegion(
     out.clauses.push({ array: k, clause: family === 'openacc' ? kind : ompWord[kind], section });
     byKind.set(kind, [...(byKind.get(kind) ?? []), section ?? k]);
   }
-  const lines = text.split('\n');
+  const { lines } = linesOf(text);
   const loop = run.loop;
   const firstLine = Math.min(loop.range.start.line, ...loop.directives.map((d) => d.range.start.line));
   const indent = /^\s*/.exec(lines[loop.range.start.line] ?? '')?.[0] ?? '';
@@ -137,7 +156,7 @@ export function updateLines(anchor: Stmt, ancestors: Stmt[], text: string, lang:
   const place = insertionPoint(anchor, ancestors, text, lang);
   if (!place) return undefined;
   const stmt = place.stmt;
-  const indent = /^\s*/.exec(text.split('\n')[stmt.range.start.line] ?? '')?.[0] ?? '';
+  const indent = /^\s*/.exec(linesOf(text).lines[stmt.range.start.line] ?? '')?.[0] ?? '';
   const before = Math.min(stmt.range.start.line, ...stmt.directives.map((d) => d.range.start.line)) + 1;
   const after = stmt.range.end.line + 2;
   const update = { line: where === 'before' ? before : after, text: `${indent}${updateDirective(family, lang, direction, section)}` };
@@ -174,13 +193,7 @@ function fortranDirective(indent: string, sentinel: string, opener: string, clau
  * braces. Otherwise the nearest enclosing statement that qualifies.
  */
 function insertionPoint(anchor: Stmt, ancestors: Stmt[], text: string, lang: SourceLanguage): { stmt: Stmt; wrap: boolean } | undefined {
-  const lines = text.split('\n');
-  const offsets: number[] = [];
-  let o = 0;
-  for (const l of lines) {
-    offsets.push(o);
-    o += l.length + 1;
-  }
+  const { lines, offsets } = linesOf(text);
   const ownLines = (s: Stmt): boolean => {
     const start = s.directives.length > 0 ? s.directives[0].range.start : s.range.start;
     const before = (lines[start.line] ?? '').slice(0, start.col);

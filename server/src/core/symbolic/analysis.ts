@@ -91,15 +91,39 @@ function resolver(b: Bindings): (a: Atom) => Expr | undefined {
 /** Replaces bound symbols (and bound call texts) and re-simplifies; cycles stay symbolic. */
 export function substitute(e: Expr, b: Bindings): Expr {
   if (b.size === 0) return e;
+  // Nothing to replace: skip the rebuild. Calls can be bound by their text (`size(a,1)`), so the
+  // shortcut applies only when no binding names a call.
+  if (!hasCallKeys(b)) {
+    const syms = new Set<string>();
+    collectSymbols(e, syms);
+    let any = false;
+    for (const v of syms) if (b.has(v)) { any = true; break; }
+    if (!any) return e;
+  }
   return substOnce(e, resolver(b), new Map());
+}
+
+const callKeyCache = new WeakMap<Bindings, { size: number; calls: boolean }>();
+function hasCallKeys(b: Bindings): boolean {
+  const hit = callKeyCache.get(b);
+  if (hit && hit.size === b.size) return hit.calls;
+  let calls = false;
+  for (const k of b.keys()) if (k.includes('(')) { calls = true; break; }
+  callKeyCache.set(b, { size: b.size, calls });
+  return calls;
 }
 
 /** Numeric value, or undefined when a symbol stays unbound or a division by zero remains. */
 export function evaluate(e: Expr, b: ReadonlyMap<string, number | Expr>): number | undefined {
-  const m = new Map<string, Expr>();
-  for (const [k, v] of b) {
-    if (typeof v !== 'number') m.set(k, v);
-    else if (Number.isFinite(v)) m.set(k, num(v));
+  let m: Bindings;
+  if (allExprs(b)) m = b as Bindings;
+  else {
+    const copy = new Map<string, Expr>();
+    for (const [k, v] of b) {
+      if (typeof v !== 'number') copy.set(k, v);
+      else if (Number.isFinite(v)) copy.set(k, num(v));
+    }
+    m = copy;
   }
   const c = constRat(substitute(e, m));
   return c === undefined ? undefined : rtoNumber(c);
@@ -175,4 +199,9 @@ export function tripCount(lower: Expr, upper: Expr, step: Expr): Expr {
   }
   if (s && s.n === 1n && s.d === 1n) return addExprs([span, ONE]);
   return addExprs([floorDiv(span, step), ONE]);
+}
+
+function allExprs(b: ReadonlyMap<string, number | Expr>): boolean {
+  for (const v of b.values()) if (typeof v === 'number') return false;
+  return true;
 }

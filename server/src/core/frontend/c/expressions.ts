@@ -6,6 +6,7 @@ import type { Parser } from 'web-tree-sitter';
 import type { ArrayAccess, ElementType, VExpr } from '../../model/program';
 import { ElementTypes, elementTypeFromC } from '../../model/types';
 import { printValue, toSymbolic } from '../../model/values';
+import { parseExpr } from '../../symbolic';
 import { MacroTable, instantiate } from './macros';
 import { type Node, field, namedChildren, operatorOf, rangeOf, unparen } from './nodes';
 
@@ -136,8 +137,23 @@ export class CExpressionBuilder {
     }
   }
 
-  /** Parses a stand-alone expression text (a macro body) into a symbolic integer, if it is one. */
+  private readonly standalone = new Map<string, import('../../symbolic').Expr | undefined>();
+
+  /**
+   * Parses a stand-alone expression text (a macro body, a section bound) into a symbolic integer,
+   * if it is one. Texts without function-like macros take the symbolic parser's fast path;
+   * others go through tree-sitter so the macros expand. Results are cached per text.
+   */
   parseStandalone(body: string): import('../../symbolic').Expr | undefined {
+    if (this.standalone.has(body)) return this.standalone.get(body);
+    const usesMacro = [...body.matchAll(/[A-Za-z_]\w*/g)].some((m) => this.ctx.macros.functions.has(m[0]));
+    const fast = usesMacro ? undefined : parseExpr(body, 'c');
+    const value = fast ?? this.parseWithTreeSitter(body);
+    this.standalone.set(body, value);
+    return value;
+  }
+
+  private parseWithTreeSitter(body: string): import('../../symbolic').Expr | undefined {
     const tree = this.ctx.parser.parse(`int __offload_ledger_value = (${body});`);
     try {
       const init = tree?.rootNode.descendantsOfType('init_declarator')[0];

@@ -123,6 +123,9 @@ function keywordKind(toks: readonly Tok[], h: number): LineKind {
   const unit = unitKeyword(toks, h);
   if (unit >= 0) return toks[unit].v === 'function' ? 'function' : 'subroutine';
   if (w === 'module') return 'module';
+  // Guards of `select type` and `select rank` read like the cases of `select case`.
+  if ((w === 'type' || w === 'class') && (isId(next, 'is') || isId(next, 'default'))) return 'case';
+  if (w === 'rank' && (isOp(next, '(') || isId(next, 'default'))) return 'case';
   switch (w) {
     case 'program': return 'program';
     case 'submodule': return 'submodule';

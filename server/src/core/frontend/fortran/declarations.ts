@@ -197,7 +197,11 @@ export function readImplicit(ctx: DeclContext, i: number): void {
   for (const [a, b] of splitTop(toks, i + 1, toks.length, ',')) {
     // The letter list is the last parenthesised group; anything before it is the type.
     let open = -1;
-    for (let k = a; k < b; k++) if (isOp(toks[k], '(')) open = k, k = Math.max(closeOf(toks, k, b), k);
+    for (let k = a; k < b; k++) {
+      if (!isOp(toks[k], '(')) continue;
+      open = k;
+      k = Math.max(closeOf(toks, k, b), k);
+    }
     const spec = readTypeSpec({ ...ctx, toks: toks.slice(0, open) }, a);
     if (!spec || open < 0) continue;
     const close = closeOf(toks, open, b);

@@ -37,6 +37,20 @@ const varRanges = new WeakMap<VExpr, Range>();
 export const sectionOf = (a: ArrayAccess): Subscript[] | undefined => sections.get(a);
 export const rangeOfVar = (v: VExpr): Range | undefined => varRanges.get(v);
 
+/**
+ * Intrinsic procedures that read the values of their array arguments. A whole array passed to
+ * one of them (`sum(h)`, `maxval(abs(h))`) is every element read, so it becomes the section
+ * `h(:, :)`; a whole array passed to a user procedure stays a name, as a C pointer argument does,
+ * because passing it reads nothing by itself. Inquiry functions (`size`, `lbound`) read no values.
+ */
+const READS_ARRAY_ARGUMENTS = new Set([
+  'abs', 'sqrt', 'exp', 'log', 'log10', 'sin', 'cos', 'tan', 'asin', 'acos', 'atan', 'atan2', 'sinh', 'cosh',
+  'tanh', 'max', 'min', 'mod', 'modulo', 'sign', 'dim', 'real', 'dble', 'float', 'sngl', 'int', 'nint', 'anint',
+  'aint', 'floor', 'ceiling', 'aimag', 'conjg', 'cmplx', 'dcmplx', 'merge', 'sum', 'product', 'maxval', 'minval',
+  'maxloc', 'minloc', 'findloc', 'any', 'all', 'count', 'norm2', 'dot_product', 'matmul', 'transpose', 'reshape',
+  'pack', 'unpack', 'spread', 'cshift', 'eoshift', 'iand', 'ior', 'ieor', 'not', 'hypot', 'erf', 'gamma', 'isnan',
+]);
+
 const REL: Record<string, string> = {
   '==': '==', '.eq.': '==', '/=': '!=', '.ne.': '!=', '<': '<', '.lt.': '<', '<=': '<=', '.le.': '<=',
   '>': '>', '.gt.': '>', '>=': '>=', '.ge.': '>=',
@@ -243,9 +257,9 @@ export class ExprParser {
         continue;
       }
       if (isOp(this.peek(), '%') && this.peek(1)?.t === 'id') {
+        // A component of an element (`a(i)%x`) is read through the element already recorded.
         name = `${name}%${this.peek(1)!.v}`;
         this.i += 2;
-        if (result) continue;
         continue;
       }
       break;
@@ -253,17 +267,29 @@ export class ExprParser {
     if (result) return result;
     const lit = this.env.floatMacro(name);
     if (lit) return realLiteral(lit.toLowerCase(), this.env);
-    const v: VExpr = { kind: 'var', name };
-    if (this.env.arrayOf(name)) varRanges.set(v, rangeIn(this.text, first.s, this.toks[this.i - 1].e));
+    const decl = this.env.arrayOf(name);
+    // A name renamed by `use m, only: local => remote` refers to the module's declaration.
+    const v: VExpr = { kind: 'var', name: decl?.name ?? name };
+    if (decl) varRanges.set(v, rangeIn(this.text, first.s, this.toks[this.i - 1].e));
     return v;
   }
 
   /** `name(...)`: an array element or section when `name` is an array, a function reference otherwise. */
   private applied(name: string, first: Tok, open: number, close: number): VExpr {
     const subs = this.subscripts(open, close);
-    const isArray = !!this.env.arrayOf(name) || name.includes('%');
-    if (isArray) return { kind: 'index', access: this.access(name, subs, rangeIn(this.text, first.s, this.toks[close].e)) };
-    return { kind: 'call', name, args: subs.map((s) => (s.kind === 'index' ? s.value : { kind: 'opaque', text: s.text })) };
+    const decl = this.env.arrayOf(name);
+    if (decl || name.includes('%')) return { kind: 'index', access: this.access(decl?.name ?? name, subs, rangeIn(this.text, first.s, this.toks[close].e)) };
+    const args: VExpr[] = subs.map((s) => (s.kind === 'index' ? s.value : { kind: 'opaque', text: s.text }));
+    return { kind: 'call', name, args: READS_ARRAY_ARGUMENTS.has(name) ? args.map((a) => this.wholeArray(a)) : args };
+  }
+
+  /** A whole array named as a value (`h` in `sum(h)` or an output list) as the section `h(:, …)`. */
+  wholeArray(v: VExpr): VExpr {
+    const d = v.kind === 'var' ? this.env.arrayOf(v.name) : undefined;
+    const range = rangeOfVar(v);
+    if (!d || d.dims.length === 0 || !range) return v;
+    const subs: Subscript[] = d.dims.map(() => ({ kind: 'triplet', text: ':' }));
+    return { kind: 'index', access: this.access(d.name, subs, range) };
   }
 
   /** Builds a read access from written subscripts; the statement layer marks writes. */

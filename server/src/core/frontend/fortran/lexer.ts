@@ -18,15 +18,19 @@ export interface Tok {
 const OPS2 = ['**', '//', '==', '/=', '<=', '>=', '=>', '::', '(/', '/)'];
 const DOT_OPS = new Set(['eq', 'ne', 'lt', 'le', 'gt', 'ge', 'and', 'or', 'not', 'eqv', 'neqv']);
 
-const isIdStart = (ch: string | undefined): boolean => ch !== undefined && /[a-z_]/.test(ch);
-const isIdChar = (ch: string | undefined): boolean => ch !== undefined && /[a-z0-9_$]/.test(ch);
+// Character tests on the lower-cased text; comparisons rather than regular expressions, because
+// the lexer sees every character of the file.
+const isLetter = (ch: string | undefined): boolean => ch !== undefined && ch >= 'a' && ch <= 'z';
 const isDigit = (ch: string | undefined): boolean => ch !== undefined && ch >= '0' && ch <= '9';
+const isIdStart = (ch: string | undefined): boolean => isLetter(ch) || ch === '_';
+const isIdChar = (ch: string | undefined): boolean => isIdStart(ch) || isDigit(ch) || ch === '$';
+const isBlank = (ch: string): boolean => ch === ' ' || ch === '\t' || ch === '\r' || ch === '\n' || ch === '\f' || ch === '\v';
 
 /** A dot-delimited word at `i` (`.eq.`, `.true.`, `.myop.`), as its inner letters, or undefined. */
 function dotWord(src: string, i: number): string | undefined {
   if (src[i] !== '.') return undefined;
   let j = i + 1;
-  while (j < src.length && /[a-z]/.test(src[j])) j++;
+  while (j < src.length && isLetter(src[j])) j++;
   return j > i + 1 && src[j] === '.' ? src.slice(i + 1, j) : undefined;
 }
 
@@ -58,7 +62,7 @@ export function tokenize(src: string): Tok[] {
   let i = 0;
   while (i < src.length) {
     const ch = src[i];
-    if (/\s/.test(ch)) {
+    if (isBlank(ch)) {
       i++;
       continue;
     }

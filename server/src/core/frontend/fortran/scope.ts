@@ -39,12 +39,19 @@ export class Scope {
     this.uses.push({ module, only, renames });
   }
 
-  /** Resolves a name through local, use and host association; `pick` chooses the table. */
-  private find<T>(name: string, pick: (s: Scope) => Map<string, T>, seen: Set<Scope> = new Set()): T | undefined {
-    if (seen.has(this)) return undefined;
-    seen.add(this);
+  /**
+   * Resolves a name through local, use and host association; `pick` chooses the table. `seen`
+   * guards against a module that uses itself in broken code; it is made only when a use is
+   * followed, because most names are found locally or in the host.
+   */
+  private find<T>(name: string, pick: (s: Scope) => Map<string, T>, seen?: Set<Scope>): T | undefined {
+    if (seen?.has(this)) return undefined;
     const own = pick(this).get(name);
     if (own !== undefined) return own;
+    if (this.uses.length > 0) {
+      seen ??= new Set();
+      seen.add(this);
+    }
     for (const u of this.uses) {
       let remote: string | undefined = u.renames.get(name) ?? name;
       if (u.only) remote = u.only.get(name);

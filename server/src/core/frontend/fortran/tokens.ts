@@ -7,7 +7,8 @@ export const isId = (t: Tok | undefined, v?: string): boolean => t !== undefined
 /** Index of the token that closes the group opened at `open` (`(`, `(/` or `[`), or -1. */
 export function closeOf(toks: readonly Tok[], open: number, limit = toks.length): number {
   let depth = 0;
-  for (let i = open; i < limit; i++) {
+  const end = Math.min(limit, toks.length);
+  for (let i = open; i < end; i++) {
     const v = toks[i].t === 'op' ? toks[i].v : '';
     if (v === '(' || v === '(/' || v === '[') depth++;
     else if (v === ')' || v === '/)' || v === ']') {
@@ -24,7 +25,7 @@ export function splitTop(toks: readonly Tok[], from: number, to: number, sep: st
   const out: [number, number][] = [];
   let depth = 0;
   let start = from;
-  for (let i = from; i < to; i++) {
+  for (let i = from; i < Math.min(to, toks.length); i++) {
     const v = toks[i].t === 'op' ? toks[i].v : '';
     if (v === '(' || v === '(/' || v === '[') depth++;
     else if (v === ')' || v === '/)' || v === ']') depth = Math.max(0, depth - 1);
@@ -33,14 +34,14 @@ export function splitTop(toks: readonly Tok[], from: number, to: number, sep: st
       start = i + 1;
     }
   }
-  out.push([start, to]);
+  out.push([start, Math.max(start, Math.min(to, toks.length))]);
   return out;
 }
 
 /** First index in [from, to) of operator `v` outside parentheses, or -1. */
 export function findTop(toks: readonly Tok[], from: number, to: number, v: string): number {
   let depth = 0;
-  for (let i = from; i < to; i++) {
+  for (let i = from; i < Math.min(to, toks.length); i++) {
     const w = toks[i].t === 'op' ? toks[i].v : '';
     if (w === '(' || w === '(/' || w === '[') depth++;
     else if (w === ')' || w === '/)' || w === ']') depth = Math.max(0, depth - 1);

@@ -71,14 +71,15 @@ export function readFixed(lines: readonly string[], active: readonly boolean[]):
       flush();
       current = { b: new LocatedBuilder(), label: f.label, quote: '' };
     }
-    for (let k = f.codeStart; k < f.codeEnd; k++) {
-      const ch = line[k];
+    let end = f.codeStart;
+    for (; end < f.codeEnd; end++) {
+      const ch = line[end];
       if (current.quote) {
         if (ch === current.quote) current.quote = '';
       } else if (ch === "'" || ch === '"') current.quote = ch;
       else if (ch === '!') break;
-      current.b.push(ch, { line: i, col: k });
     }
+    current.b.pushLine(line, i, f.codeStart, end);
   }
   flush();
   return items;

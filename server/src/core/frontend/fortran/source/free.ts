@@ -4,11 +4,12 @@
  * line's first non-blank character is `&` the statement resumes right after it (so a token may be
  * split), otherwise it resumes at the line's first column. `;` separates statements.
  */
-import { continuesOnNextLine } from '../../../directives/reader';
+import { continuesOnNextLine, isDirectiveStart } from '../../../directives/reader';
 import { LocatedBuilder, subLocated } from './located';
 import { freeLabel, type SourceItem } from './items';
 
-const SENTINEL = /^\s*!\$(acc|omp)(?=[\s&]|$)/i;
+/** A free-form directive line: `!$acc` or `!$omp` as the first non-blank characters. */
+const isSentinelLine = (line: string): boolean => /^\s*!/.test(line) && isDirectiveStart(line, 'fortran') !== undefined;
 
 const isCommentOrBlank = (line: string): boolean => /^\s*(!|$)/.test(line);
 
@@ -21,9 +22,9 @@ export function readFree(lines: readonly string[], active: readonly boolean[]): 
       i++;
       continue;
     }
-    if (SENTINEL.test(line)) {
+    if (isSentinelLine(line)) {
       let j = i;
-      while (j + 1 < lines.length && continuesOnNextLine(lines[j], 'fortran') && SENTINEL.test(lines[j + 1])) j++;
+      while (j + 1 < lines.length && continuesOnNextLine(lines[j], 'fortran') && isSentinelLine(lines[j + 1])) j++;
       items.push({ kind: 'directive', slice: lines.slice(i, j + 1).join('\n'), origin: { line: i, col: 0 } });
       i = j + 1;
       continue;
@@ -60,12 +61,12 @@ function statement(lines: readonly string[], active: readonly boolean[], first: 
     while (e > col && /\s/.test(l[e - 1])) e--;
     const continued = e > col && l[e - 1] === '&';
     const stop = continued ? e - 1 : e;
-    for (let k = col; k < stop; k++) b.push(l[k], { line: li, col: k });
+    b.pushLine(l, li, col, stop);
     if (!continued) break;
     let next = li + 1;
-    while (next < lines.length && (!active[next] || (isCommentOrBlank(lines[next]) && !SENTINEL.test(lines[next])))) next++;
+    while (next < lines.length && (!active[next] || (isCommentOrBlank(lines[next]) && !isSentinelLine(lines[next])))) next++;
     // A promised continuation that never comes ends the statement where the text ends.
-    if (next >= lines.length || SENTINEL.test(lines[next])) break;
+    if (next >= lines.length || isSentinelLine(lines[next])) break;
     const nl = lines[next];
     const f = nl.search(/\S/);
     col = nl[f] === '&' ? f + 1 : 0;

@@ -1,7 +1,9 @@
 /**
  * Text that remembers where each of its characters came from. A Fortran statement may be split
  * over several lines by continuation marks, yet every finding and every model range must point
- * at the file, so each logical statement keeps one file position per character.
+ * at the file, so each logical statement keeps one file position per character. Positions are
+ * kept as two plain number arrays rather than one object per character, because a large file
+ * has millions of characters and the objects would mostly be garbage.
  */
 import type { Pos, Range } from '../../../types';
 
@@ -10,19 +12,21 @@ export interface Located {
   raw: string;
   /** The same text lower-cased outside character literals (Fortran is case-insensitive). */
   low: string;
-  /** File position of every character, plus one final entry just past the last character. */
-  pos: Pos[];
+  /** File line and column of every character, plus one final entry just past the last one. */
+  lines: number[];
+  cols: number[];
 }
 
-const after = (p: Pos): Pos => ({ line: p.line, col: p.col + 1 });
+const posAt = (t: Located, i: number): Pos => ({ line: t.lines[i], col: t.cols[i] });
 
 /** The file range of characters [from, to); an empty span is a point range at `from`. */
 export function rangeIn(t: Located, from: number, to: number): Range {
   const n = t.raw.length;
   const a = Math.max(0, Math.min(from, n));
-  const start = t.pos[a];
-  if (to <= from || a >= n) return { start, end: start };
-  return { start, end: after(t.pos[Math.min(to, n) - 1]) };
+  const start = posAt(t, a);
+  if (to <= from || a >= n) return { start, end: { ...start } };
+  const last = Math.min(to, n) - 1;
+  return { start, end: { line: t.lines[last], col: t.cols[last] + 1 } };
 }
 
 /** Lower-cases everything outside character literals; the length never changes. */
@@ -35,29 +39,46 @@ export function lowerOutsideStrings(raw: string): string {
       out += ch;
     } else {
       if (ch === "'" || ch === '"') quote = ch;
-      out += ch.toLowerCase().length === 1 ? ch.toLowerCase() : ch;
+      const lower = ch.toLowerCase();
+      out += lower.length === ch.length ? lower : ch;
     }
   }
   return out;
 }
 
-/** Collects characters with their positions while a logical statement is assembled. */
-export class LocatedBuilder {
-  private chars: string[] = [];
-  private where: Pos[] = [];
+/** A located text whose every character sits at one position (for text made by the reader). */
+export function locatedAt(raw: string, at: Pos): Located {
+  const n = raw.length + 1;
+  return { raw, low: lowerOutsideStrings(raw), lines: new Array<number>(n).fill(at.line), cols: new Array<number>(n).fill(at.col) };
+}
 
-  push(ch: string, p: Pos): void {
-    this.chars.push(ch);
-    this.where.push(p);
+/** Collects runs of characters with their positions while a logical statement is assembled. */
+export class LocatedBuilder {
+  /** Each run is characters [from, to) of one physical line. */
+  private runs: { text: string; line: number; from: number; to: number }[] = [];
+
+  /** Pushes characters [from, to) of one physical line. */
+  pushLine(text: string, line: number, from: number, to: number): void {
+    if (to > from) this.runs.push({ text, line, from, to });
   }
 
-  get length(): number {
-    return this.chars.length;
+  private joined(): { raw: string; lines: number[]; cols: number[] } {
+    const lines: number[] = [];
+    const cols: number[] = [];
+    let raw = '';
+    for (const r of this.runs) {
+      raw += r.text.slice(r.from, r.to);
+      for (let k = r.from; k < r.to; k++) {
+        lines.push(r.line);
+        cols.push(k);
+      }
+    }
+    return { raw, lines, cols };
   }
 
   /** Splits the collected text at `;` outside character literals and trims every piece. */
   finish(): Located[] {
-    const raw = this.chars.join('');
+    const { raw, lines, cols } = this.joined();
     const pieces: Located[] = [];
     let quote = '';
     let from = 0;
@@ -66,7 +87,7 @@ export class LocatedBuilder {
       let b = to;
       while (a < b && /\s/.test(raw[a])) a++;
       while (b > a && /\s/.test(raw[b - 1])) b--;
-      if (b > a) pieces.push(this.slice(raw, a, b));
+      if (b > a) pieces.push(slice(raw, lines, cols, a, b));
     };
     for (let i = 0; i < raw.length; i++) {
       const ch = raw[i];
@@ -82,17 +103,27 @@ export class LocatedBuilder {
     return pieces;
   }
 
-  private slice(raw: string, a: number, b: number): Located {
-    const text = raw.slice(a, b);
-    const pos = this.where.slice(a, b);
-    pos.push(after(this.where[b - 1]));
-    return { raw: text, low: lowerOutsideStrings(text), pos };
-  }
+}
+
+function slice(raw: string, lines: number[], cols: number[], a: number, b: number): Located {
+  const text = raw.slice(a, b);
+  const ls = lines.slice(a, b);
+  const cs = cols.slice(a, b);
+  ls.push(lines[b - 1]);
+  cs.push(cols[b - 1] + 1);
+  return { raw: text, low: lowerOutsideStrings(text), lines: ls, cols: cs };
 }
 
 /** A sub-range of a located text as a located text of its own. */
 export function subLocated(t: Located, from: number, to: number): Located {
-  const pos = t.pos.slice(from, to);
-  pos.push(to > from ? after(t.pos[to - 1]) : t.pos[from]);
-  return { raw: t.raw.slice(from, to), low: t.low.slice(from, to), pos };
+  const lines = t.lines.slice(from, to);
+  const cols = t.cols.slice(from, to);
+  if (to > from) {
+    lines.push(t.lines[to - 1]);
+    cols.push(t.cols[to - 1] + 1);
+  } else {
+    lines.push(t.lines[from]);
+    cols.push(t.cols[from]);
+  }
+  return { raw: t.raw.slice(from, to), low: t.low.slice(from, to), lines, cols };
 }

@@ -1,0 +1,57 @@
+/**
+ * The Fortran reader proper: source form, statements, program units, bindings. It is written
+ * not to throw on any input; `buildFortranModel` in index.ts still guards it, and the tests call
+ * this unguarded entry so that a throw would show up there.
+ */
+import * as S from '../../symbolic';
+import type { ElementType, ProgramModel } from '../../model/program';
+import { bindConstants } from './bindings';
+import { Cursor, entriesOf } from './cursor';
+import { realLiteral } from './expressions';
+import { readSource } from './source';
+import { lowerOutsideStrings } from './source/located';
+import { UnitReader } from './units';
+
+/** A `#define` body that is a floating-point literal (`0.5d0`, `1.e-3`, `2.5`). */
+const FLOAT_LITERAL = /^[-+]?(\d+\.\d*|\.\d+|\d+(?=[eEdDqQ]))([eEdDqQ][-+]?\d+)?(_\w+)?$/;
+
+export function emptyFortranModel(path: string): ProgramModel {
+  return {
+    path,
+    language: 'fortran',
+    layout: 'column-major',
+    procedures: [],
+    globals: [],
+    bindings: new Map(),
+    floatConstants: new Map(),
+    directives: [],
+    findings: [],
+  };
+}
+
+export function readFortranInto(model: ProgramModel, text: string, path: string): void {
+  const src = readSource(text, path);
+  const floatMacros = new Map<string, string>();
+  const macroConstants = new Map<string, S.Expr>();
+  for (const [name, body] of src.defines) {
+    const key = name.toLowerCase();
+    const literal = body.replace(/^\((.*)\)$/, '$1').trim();
+    if (FLOAT_LITERAL.test(literal) && /[.eEdDqQ]/.test(literal)) {
+      floatMacros.set(key, literal);
+      const lit = realLiteral(literal.toLowerCase(), { arrayOf: () => undefined, realKindBytes: (k) => (/^\d+$/.test(k) ? Number(k) : undefined), floatMacro: () => undefined, symbolic: () => undefined });
+      const bytes = lit.kind === 'num' && lit.bytes ? lit.bytes : 8;
+      const type: ElementType = { name: bytes === 4 ? 'float' : bytes === 16 ? 'long double' : 'double', bytes, isFloat: true };
+      model.floatConstants.set(key, type);
+      continue;
+    }
+    const e = S.parseExpr(lowerOutsideStrings(body), 'fortran');
+    if (e) {
+      macroConstants.set(key, e);
+      model.bindings.set(key, e);
+    }
+  }
+  const entries = entriesOf(src.items, model.directives, model.findings);
+  const units = new UnitReader(model, new Cursor(entries), { floatMacros, macroConstants });
+  units.run();
+  bindConstants(model, units.units);
+}
