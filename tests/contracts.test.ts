@@ -31,3 +31,11 @@ describe('contracts', () => {
     expect(codes).toHaveLength(11);
   });
 });
+
+describe('finding rules', () => {
+  it('FINDING_RULES matches docs/findings.md codes and default severities', async () => {
+    const { FINDING_RULES } = await import('../server/src/core/findings');
+    const rows = [...readFileSync(FINDINGS_COPY, 'utf8').matchAll(/^\| `([a-z-]+)` \| (\w+) \|/gm)].map((m) => [m[1], m[2]]);
+    expect(FINDING_RULES.map((r) => [r.code, r.severity])).toEqual(rows);
+  });
+});

@@ -2,7 +2,7 @@
 import { parseArgs } from 'node:util';
 
 export interface CommonArgs {
-  format: 'text' | 'json';
+  format: 'text' | 'json' | 'sarif';
   bindings: Map<string, number>;
   profile?: string;
   baseline: 'node' | 'core';
@@ -43,7 +43,7 @@ commands:
   serve --stdio            run the language server
 
 options:
-  --format text|json       output format (default text; json follows the published report schema)
+  --format text|json|sarif output format (default text; json follows the published report schema; sarif is SARIF 2.1.0)
   --bind NAME=VALUE        give a size symbol a value, e.g. --bind NX=600 (repeatable)
   --profile NAME           machine profile for the estimates (built-in presets or offload-ledger.machines.json)
   --baseline node|core     host baseline of the speedups: the whole node (default) or one core
@@ -96,11 +96,11 @@ export function parseCli(argv: string[]): CliArgs {
   const [command, ...paths] = positionals;
   if (!command) throw new UsageError('missing command; try `offload-ledger check <files>`');
   const format = values.format ?? 'text';
-  if (format !== 'text' && format !== 'json') throw new UsageError(`unknown format \`${format}\`; use text or json`);
+  if (format !== 'text' && format !== 'json' && format !== 'sarif') throw new UsageError(`unknown format \`${format}\`; use text, json or sarif`);
   if (command === 'serve') return { command: 'serve' };
   if (command === 'calibrate') {
     return {
-      command: 'calibrate', cc: values.cc ?? 'gcc', out: values.out, format,
+      command: 'calibrate', cc: values.cc ?? 'gcc', out: values.out, format: format === 'json' ? 'json' : 'text',
       maxThreads: positiveInt(values['max-threads'], '--max-threads'), arrayMiB: positiveInt(values['array-mib'], '--array-mib'),
     };
   }

@@ -3,7 +3,9 @@
  * 1 otherwise, 2 on usage or input errors (with a one-line message on stderr).
  */
 import { analyzeSource, type FileAnalysis } from '../core/analyze';
+import { relative, sep } from 'node:path';
 import { report } from '../core/report';
+import { sarifLog } from '../core/sarif';
 import { TOOL_VERSION } from '../core/report';
 import { loadGrammars } from '../grammars';
 import { type CheckArgs, type PlanArgs, USAGE, UsageError, parseCli } from './args';
@@ -62,6 +64,7 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
     return 0;
   }
   if (args.format === 'json') out(JSON.stringify(report(analyses), null, 2));
+  else if (args.format === 'sarif') out(JSON.stringify(sarifLog(analyses, (p) => relative(process.cwd(), p).split(sep).join('/')), null, 2));
   else out(analyses.map(formatFile).join('\n\n'));
   return analyses.some((a) => a.findings.some((f) => f.severity === 'error')) ? 1 : 0;
 }
