@@ -17,6 +17,13 @@ if (!gcc) console.log('skipped: gcc not found, so suggested data regions cannot 
 const tmp = mkdtempSync(join(tmpdir(), 'ol-region-'));
 
 /** Small sizes so that each program runs in well under a second; the analysis itself uses the file's own sizes. */
+const gfortran = spawnSync('gfortran', ['--version']).status === 0;
+if (!gfortran) console.log('skipped: gfortran not found, so suggested Fortran data regions cannot be compiled');
+
+/** The estuary demo sets its sizes in one parameter line; tests run a copy with small sizes. */
+const SIZE_LINE = 'nx = 800, ny = 300, nsteps = 2000';
+const SMALL_SIZES = 'nx = 40, ny = 30, nsteps = 300';
+
 const cases: { file: string; defines: string[] }[] = [
   { file: 'examples/heat2d/heat2d_acc.c', defines: ['-DNX=64', '-DNY=48', '-DSTEPS=201'] },
   { file: 'examples/heat2d/heat2d_omp.c', defines: ['-DNX=64', '-DNY=48', '-DSTEPS=201'] },
@@ -26,9 +33,25 @@ const cases: { file: string; defines: string[] }[] = [
   { file: 'tests/fixtures/data/snapshot_naive.c', defines: [] },
   { file: 'tests/fixtures/data/callee_clauses.c', defines: [] },
   { file: 'tests/fixtures/data/omp_host_source.c', defines: [] },
+  { file: 'examples/estuary/estuary_naive_acc.f90', defines: [] },
+  { file: 'examples/estuary/estuary_naive_omp.f90', defines: [] },
 ];
 
+function buildFortran(src: string, name: string): string {
+  const f = join(tmp, `${name}.f90`);
+  writeFileSync(f, src.replace(SIZE_LINE, SMALL_SIZES));
+  const flag = /!\$omp/i.test(src) ? '-fopenmp' : '-fopenacc';
+  const exe = join(tmp, name);
+  const r = spawnSync('gfortran', ['-O1', flag, `-J${tmp}`, f, '-o', exe], { encoding: 'utf8' });
+  expect(r.stderr, `gfortran ${flag} on ${name}`).toBe('');
+  expect(r.status).toBe(0);
+  const run = spawnSync(exe, [], { encoding: 'utf8', timeout: 60_000 });
+  expect(run.status).toBe(0);
+  return run.stdout;
+}
+
 function build(src: string, name: string, defines: string[]): string {
+  if (name.endsWith('_f90')) return buildFortran(src, name);
   const c = join(tmp, `${name}.c`);
   writeFileSync(c, src);
   const flag = /#pragma omp/.test(src) ? '-fopenmp' : '-fopenacc';
@@ -43,7 +66,7 @@ function build(src: string, name: string, defines: string[]): string {
 
 describe.skipIf(!gcc)('suggested data regions compile, keep results and remove per-step copies', () => {
   for (const { file, defines } of cases) {
-    it(file, async () => {
+    it.skipIf(file.endsWith('.f90') && !gfortran)(file, async () => {
       const text = readFileSync(join(ROOT, file), 'utf8');
       const before = await analyzeText(text, file);
       const ledgers = before.timeLoops.map((t) => t.ledger).filter((l) => l?.dataRegion);
@@ -51,9 +74,9 @@ describe.skipIf(!gcc)('suggested data regions compile, keep results and remove p
       const edits = ledgers.flatMap((l) => l!.dataRegion!.edits);
       expect(edits.length).toBeGreaterThan(0);
       const edited = applyLineEdits(text, edits);
-      const name = basename(file, '.c');
+      const name = file.endsWith('.f90') ? `${basename(file, '.f90')}_f90` : basename(file, '.c');
       // (a) and (b): both compile, and print the same results.
-      expect(build(edited, `${name}_fixed`, defines)).toBe(build(text, name, defines));
+      expect(build(edited, `${name}_fixed${name.endsWith('_f90') ? '_f90' : ''}`, defines)).toBe(build(text, name, defines));
       // (c): only updates that host code needs still move bytes per step.
       const after = await analyzeText(edited, file);
       for (const t of after.timeLoops) {

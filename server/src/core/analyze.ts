@@ -7,6 +7,7 @@ import type { Parser } from 'web-tree-sitter';
 import * as S from './symbolic';
 import type { ProgramModel } from './model/program';
 import { buildCModel } from './frontend/c';
+import { buildFortranModel } from './frontend/fortran';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
@@ -93,8 +94,12 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     internalErrors: [],
   };
   try {
-    const parser = deps.parserFor(input.language);
-    if (parser) result.model = buildCModel(parser, input.text, input.path, input.language);
+    if (input.language === 'fortran') {
+      result.model = buildFortranModel(input.text, input.path);
+    } else {
+      const parser = deps.parserFor(input.language);
+      if (parser) result.model = buildCModel(parser, input.text, input.path, input.language);
+    }
     result.findings.push(...result.model.findings);
     result.directiveFamilies = [...new Set(result.model.directives.map((d) => d.family))].sort();
     const user = options.bindings ?? new Map<string, number>();

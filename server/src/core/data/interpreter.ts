@@ -388,8 +388,16 @@ export class DataInterpreter {
       // Resolve the caller's own locals but keep the file's named sizes (`N`, not 48000000), so
       // that sections written from the callee's view still read like the source.
       const e = toSymbolic(arg);
-      if (e) bindings.set(p.name, S.substitute(e, this.localBindings(ctx.frame)));
-      else bindings.delete(p.name);
+      if (!e) {
+        bindings.delete(p.name);
+        return;
+      }
+      let value = S.substitute(e, this.localBindings(ctx.frame));
+      // `call tide(h, nx)` inside a scope where `nx` is the file's own constant: binding the
+      // parameter nx to the symbol nx would be a cycle, so the caller's value is used instead.
+      if (S.freeSymbols(value).includes(p.name)) value = S.substitute(value, ctx.frame.bindings);
+      if (S.equals(value, S.sym(p.name))) bindings.delete(p.name);
+      else bindings.set(p.name, value);
     });
     const frame: Frame = { proc: callee, rename, bindings, via: [...ctx.frame.via, at], depth: ctx.frame.depth + 1 };
     this.exec(callee.body, { ...ctx, frame });

@@ -65,6 +65,8 @@ export function regionSectionText(region: Region, name: string, info: ArrayInfo,
   if (region.length === 0) return name;
   const b = bounding(region);
   const { strides, extents } = info.shape;
+  const whole = b.lo.every((v) => v === 0) && b.hi.every((v, d) => v === extents[d] - 1) && !info.shapeApproximate;
+  if (whole) return wholeSectionText(name, info, lang) ?? name;
   if (lang === 'fortran') {
     const lowers = info.decl?.lowerBounds?.map((l) => S.constValue(l) ?? 1) ?? [];
     return `${name}(${b.lo.map((lo, d) => `${lo + (lowers[d] ?? 1)}:${b.hi[d] + (lowers[d] ?? 1)}`).join(', ')})`;
