@@ -16,7 +16,7 @@ import { type TimeLoopLedger, dataLedger } from './data/ledger';
 import { applyLineEdits } from './data/edits';
 import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/profiles';
 import { nestEstimate } from './estimate/nest';
-import { type StepWork, stepEstimate, stepWork } from './estimate/step';
+import { type StepWork, isParallelNest, stepEstimate, stepWork } from './estimate/step';
 import type { Baseline, NestEstimate, StepEstimate } from './estimate/types';
 import type { DirectiveFamily, Finding, SourceLanguage } from './types';
 
@@ -120,8 +120,9 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       const it = nestIterations(nest);
       const iterations = quantity(it.expr, bind(nest), it.display);
       const cost = nestCost(nest, result.model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? profile.host.cacheBytesPerCore });
-      const estimate = nestEstimate(iterations.value, cost, profile, baseline);
-      result.nests.push({ nest, iterations, approximate: it.triangular, cost, estimate });
+      const report: NestReport = { nest, iterations, approximate: it.triangular, cost };
+      report.estimate = nestEstimate(iterations.value, cost, profile, baseline, isParallelNest(report));
+      result.nests.push(report);
     }
     result.findings.push(...raceFindings(result.model, scan.nests, (n) => bind(n)));
     const strides = new Map<string, S.Expr[][]>();

@@ -12,6 +12,12 @@ import type { Baseline, Bound, NestEstimate, Spread } from './types';
 export interface Work {
   iterations: number;
   cost: NestCost;
+  /**
+   * False for a nest no directive parallelises (neither an offload construct nor a host
+   * `parallel for`/`loop`): a CPU build runs it on one core even when the node is the baseline,
+   * which is the serial part that makes packing runs per core pay.
+   */
+  parallel?: boolean;
 }
 
 /** Single precision when no array of the nest has elements wider than 4 bytes. */
@@ -23,8 +29,9 @@ export function hostSeconds(w: Work, profile: MachineProfile, baseline: Baseline
   const h = profile.host;
   const single = isSinglePrecision(w.cost);
   const peakNode = single ? h.peakFlopsNodeSingle ?? 2 * h.peakFlopsNode : h.peakFlopsNode;
-  const peak = baseline === 'node' ? peakNode : peakNode / h.cores;
-  const bw = (baseline === 'node' ? h.bandwidthNode : h.bandwidthCore) * EFFICIENCY.hostBandwidth[c];
+  const wholeNode = baseline === 'node' && w.parallel !== false;
+  const peak = wholeNode ? peakNode : peakNode / h.cores;
+  const bw = (wholeNode ? h.bandwidthNode : h.bandwidthCore) * EFFICIENCY.hostBandwidth[c];
   return rooflineTime(w.cost.flopsPerIteration * w.iterations, w.cost.bytes.host * w.iterations, peak, bw).seconds;
 }
 
@@ -35,10 +42,10 @@ export function deviceKernel(w: Work, profile: MachineProfile, c: Case = 'expect
   return rooflineTime(w.cost.flopsPerIteration * w.iterations, w.cost.bytes.device * w.iterations, peak, d.bandwidth * EFFICIENCY.deviceBandwidth[c]);
 }
 
-export function nestEstimate(iterations: number | null, cost: NestCost, profile: MachineProfile, baseline: Baseline): NestEstimate {
+export function nestEstimate(iterations: number | null, cost: NestCost, profile: MachineProfile, baseline: Baseline, parallel = true): NestEstimate {
   const base: NestEstimate = { profile: profile.name, baseline, hostSeconds: null, deviceSeconds: null, speedup: null, bound: null };
   if (iterations === null) return base;
-  const w = { iterations, cost };
+  const w = { iterations, cost, parallel };
   const speedup = {} as Spread;
   for (const c of CASES) {
     const dev = deviceKernel(w, profile, c).seconds;

@@ -12,6 +12,7 @@
 import * as S from '../symbolic';
 import type { LoopStmt, Stmt } from '../model/program';
 import { walkStatements } from '../model/values';
+import { isLoopDirective } from '../model/directives';
 import type { NestReport } from '../analyze';
 import { nestIterations } from '../analysis/nests';
 import type { TimeLoopLedger } from '../data/ledger';
@@ -41,7 +42,7 @@ export function stepWork(ledger: TimeLoopLedger, nests: NestReport[]): StepWork 
       if (!n) return true;
       const it = S.evaluate(nestIterations(n.nest).expr, e.bindings);
       if (it === undefined) ok = false;
-      else out.push({ iterations: it, cost: n.cost });
+      else out.push({ iterations: it, cost: n.cost, parallel: isParallelNest(n) });
       return false;
     });
     return ok ? out : null;
@@ -66,6 +67,16 @@ export function stepWork(ledger: TimeLoopLedger, nests: NestReport[]): StepWork 
     transfers.push({ bytes: t.bytes.value, perStep: 1 / t.everySteps });
   }
   return { kernels, host, transfers };
+}
+
+/** A nest some directive runs in parallel: offloaded, or a host OpenMP/OpenACC loop directive on its loops. */
+export function isParallelNest(n: NestReport): boolean {
+  if (n.nest.offload) return true;
+  let found = false;
+  walkStatements([n.nest.root], (s) => {
+    if (s.directives.some(isLoopDirective)) found = true;
+  });
+  return found;
 }
 
 interface Terms {

@@ -42,7 +42,10 @@ export const loopVariable = (k: number): string => `_i${k}`;
 export function valueOfExpr(e: S.Expr): VExpr {
   const located = locatedAt(S.toSource(e, 'fortran'), { line: 0, col: 0 });
   const toks = tokenize(located.low);
-  const env: ExprEnv = { arrayOf: () => undefined, realKindBytes: () => undefined, floatMacro: () => undefined, symbolic: () => undefined };
+  const env: ExprEnv = {
+    arrayOf: () => undefined, isUndeclaredVariable: () => false, isDeclared: () => false,
+    realKindBytes: () => undefined, floatMacro: () => undefined, symbolic: () => undefined,
+  };
   return new ExprParser(located, toks, env, 0, toks.length).parse();
 }
 

@@ -16,6 +16,13 @@ import { closeOf, isOp, splitTop } from './tokens';
 export interface ExprEnv {
   /** The visible declaration of an array named `name`, if any. */
   arrayOf(name: string): Declaration | undefined;
+  /**
+   * True for a name with no visible declaration that must still be a variable: one named in a
+   * directive's data clause (`present(h)`), as arrays of modules in other files are.
+   */
+  isUndeclaredVariable(name: string): boolean;
+  /** True when `name` has a visible declaration of any kind. */
+  isDeclared(name: string): boolean;
   /** Byte size of a real literal with kind `_k` (`k` a number or a named constant), if known. */
   realKindBytes(kind: string): number | undefined;
   /** The literal text of a floating-point `#define` constant, if `name` is one. */
@@ -278,7 +285,10 @@ export class ExprParser {
   private applied(name: string, first: Tok, open: number, close: number): VExpr {
     const subs = this.subscripts(open, close);
     const decl = this.env.arrayOf(name);
-    if (decl || name.includes('%')) return { kind: 'index', access: this.access(decl?.name ?? name, subs, rangeIn(this.text, first.s, this.toks[close].e)) };
+    // A section subscript (`a:b`) cannot be a function argument, so an undeclared name with one
+    // is an array of a module outside this file; so is a name the directives move as data.
+    const undeclared = !decl && !this.env.isDeclared(name) && (this.env.isUndeclaredVariable(name) || subs.some((x) => x.kind === 'triplet'));
+    if (decl || undeclared || name.includes('%')) return { kind: 'index', access: this.access(decl?.name ?? name, subs, rangeIn(this.text, first.s, this.toks[close].e)) };
     const args: VExpr[] = subs.map((s) => (s.kind === 'index' ? s.value : { kind: 'opaque', text: s.text }));
     return { kind: 'call', name, args: READS_ARRAY_ARGUMENTS.has(name) ? args.map((a) => this.wholeArray(a)) : args };
   }

@@ -38,7 +38,10 @@ export function readFortranInto(model: ProgramModel, text: string, path: string)
     const literal = body.replace(/^\((.*)\)$/, '$1').trim();
     if (FLOAT_LITERAL.test(literal) && /[.eEdDqQ]/.test(literal)) {
       floatMacros.set(key, literal);
-      const lit = realLiteral(literal.toLowerCase(), { arrayOf: () => undefined, realKindBytes: (k) => (/^\d+$/.test(k) ? Number(k) : undefined), floatMacro: () => undefined, symbolic: () => undefined });
+      const lit = realLiteral(literal.toLowerCase(), {
+        arrayOf: () => undefined, isUndeclaredVariable: () => false, isDeclared: () => false,
+        realKindBytes: (k) => (/^\d+$/.test(k) ? Number(k) : undefined), floatMacro: () => undefined, symbolic: () => undefined,
+      });
       const bytes = lit.kind === 'num' && lit.bytes ? lit.bytes : 8;
       const type: ElementType = { name: bytes === 4 ? 'float' : bytes === 16 ? 'long double' : 'double', bytes, isFloat: true };
       model.floatConstants.set(key, type);
@@ -51,7 +54,14 @@ export function readFortranInto(model: ProgramModel, text: string, path: string)
     }
   }
   const entries = entriesOf(src.items, model.directives, model.findings);
-  const units = new UnitReader(model, new Cursor(entries), { floatMacros, macroConstants });
+  // Names that directives move or map are variables; `routine` and `declare target` may name
+  // procedures, and a construct's own argument (`critical(name)`) is no data, so those are left out.
+  const dataNames = new Set(
+    model.directives
+      .filter((d) => d.construct !== 'routine' && !d.construct.startsWith('declare'))
+      .flatMap((d) => d.clauses.filter((c) => c.name !== d.construct).flatMap((c) => (c.vars ?? []).map((v) => v.name))),
+  );
+  const units = new UnitReader(model, new Cursor(entries), { floatMacros, macroConstants, dataNames });
   units.run();
   bindConstants(model, units.units);
 }

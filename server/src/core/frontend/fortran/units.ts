@@ -30,6 +30,8 @@ export interface FileOptions {
   floatMacros: ReadonlyMap<string, string>;
   /** Integer `#define` values by lower-cased name. */
   macroConstants: ReadonlyMap<string, S.Expr>;
+  /** Every name that a directive's clause lists as data (`copy(h)`, `present(u)`). */
+  dataNames: ReadonlySet<string>;
 }
 
 /** Attribute statements that declare their names as variables (`public`, `save`, … only qualify names). */
@@ -106,6 +108,8 @@ export class UnitReader {
         const d = lookup(n);
         return d?.isArray ? d : undefined;
       },
+      isUndeclaredVariable: (n) => this.opts.dataNames.has(n),
+      isDeclared: (n) => lookup(n) !== undefined,
       realKindBytes: (k) => {
         const n = /^\d+$/.test(k) ? Number(k) : constant(k) ?? intrinsicKind(k);
         return n === undefined ? undefined : realBytes(n);
