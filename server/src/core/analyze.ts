@@ -7,6 +7,7 @@ import type { Parser } from 'web-tree-sitter';
 import * as S from './symbolic';
 import type { ProgramModel } from './model/program';
 import { buildCModel } from './frontend/c';
+import { emptyModel } from './model/empty';
 import { buildFortranModel } from './frontend/fortran';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
@@ -86,7 +87,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     path: input.path,
     profile,
     language: input.language,
-    model: emptyModel(input),
+    model: emptyModel(input.path, input.language),
     directiveFamilies: [],
     nests: [],
     timeLoops: [],
@@ -166,20 +167,6 @@ function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions,
     const match = same[mine];
     return match ? stepWork(match, after.nests) : null;
   });
-}
-
-function emptyModel(input: AnalyzeInput): ProgramModel {
-  return {
-    path: input.path,
-    language: input.language,
-    layout: input.language === 'fortran' ? 'column-major' : 'row-major',
-    procedures: [],
-    globals: [],
-    bindings: new Map(),
-    floatConstants: new Map(),
-    directives: [],
-    findings: [],
-  };
 }
 
 /**

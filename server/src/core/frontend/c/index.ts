@@ -7,6 +7,7 @@ import type { Parser } from 'web-tree-sitter';
 import * as S from '../../symbolic';
 import type { Declaration, ElementType, Procedure, ProgramModel } from '../../model/program';
 import { walkStatements } from '../../model/values';
+import { emptyModel } from '../../model/empty';
 import { toSymbolic } from '../../model/values';
 import type { Directive, Finding, SourceLanguage } from '../../types';
 import { CExpressionBuilder, numberLiteral } from './expressions';
@@ -16,17 +17,7 @@ import { type Node, field, namedChildren, rangeOf } from './nodes';
 import { CStatementBuilder } from './statements';
 
 export function buildCModel(parser: Parser, text: string, path: string, language: SourceLanguage): ProgramModel {
-  const model: ProgramModel = {
-    path,
-    language,
-    layout: 'row-major',
-    procedures: [],
-    globals: [],
-    bindings: new Map(),
-    floatConstants: new Map(),
-    directives: [],
-    findings: [],
-  };
+  const model = emptyModel(path, language);
   const tree = parser.parse(text);
   if (!tree) return model;
   try {
