@@ -5,6 +5,7 @@
  */
 import * as S from '../../symbolic';
 import type { ElementType, ProgramModel } from '../../model/program';
+import { emptyModel } from '../../model/empty';
 import { bindConstants } from './bindings';
 import { Cursor, entriesOf } from './cursor';
 import { realLiteral } from './expressions';
@@ -15,18 +16,9 @@ import { UnitReader } from './units';
 /** A `#define` body that is a floating-point literal (`0.5d0`, `1.e-3`, `2.5`). */
 const FLOAT_LITERAL = /^[-+]?(\d+\.\d*|\.\d+|\d+(?=[eEdDqQ]))([eEdDqQ][-+]?\d+)?(_\w+)?$/;
 
+/** The empty model the reader fills (a Fortran model is column-major). */
 export function emptyFortranModel(path: string): ProgramModel {
-  return {
-    path,
-    language: 'fortran',
-    layout: 'column-major',
-    procedures: [],
-    globals: [],
-    bindings: new Map(),
-    floatConstants: new Map(),
-    directives: [],
-    findings: [],
-  };
+  return emptyModel(path, 'fortran');
 }
 
 export function readFortranInto(model: ProgramModel, text: string, path: string): void {
