@@ -17,9 +17,12 @@ export function integerLiteral(text: string): number | undefined {
 
 /**
  * Converts a value expression to a symbolic integer quantity, or undefined when it is not an
- * integer expression we can represent (floating literals, array reads, conditionals).
+ * integer expression we can represent (floating literals, array reads, conditionals). A front
+ * end may pass `special` to read calls its language gives a meaning (Fortran `size(a, 1)`); it
+ * applies at every depth.
  */
-export function toSymbolic(e: VExpr): S.Expr | undefined {
+export function toSymbolic(e: VExpr, special?: (call: VExpr & { kind: 'call' }) => S.Expr | undefined): S.Expr | undefined {
+  const toSymbolic = (x: VExpr): S.Expr | undefined => toSymbolicWith(x, special);
   switch (e.kind) {
     case 'num': {
       if (e.isFloat) return undefined;
@@ -60,18 +63,25 @@ export function toSymbolic(e: VExpr): S.Expr | undefined {
       }
     }
     case 'call': {
+      const hooked = special?.(e);
+      if (hooked) return hooked;
       const args = e.args.map(toSymbolic);
       if (args.some((a) => a === undefined)) return undefined;
       const xs = args as S.Expr[];
       const name = e.name.toLowerCase();
-      if ((name === 'min' || name === 'fmin') && xs.length === 2) return S.min(xs[0], xs[1]);
-      if ((name === 'max' || name === 'fmax') && xs.length === 2) return S.max(xs[0], xs[1]);
+      if ((name === 'min' || name === 'fmin') && xs.length >= 2) return xs.reduce((a, b) => S.min(a, b));
+      if ((name === 'max' || name === 'fmax') && xs.length >= 2) return xs.reduce((a, b) => S.max(a, b));
       if (name === 'mod' && xs.length === 2) return S.mod(xs[0], xs[1]);
       return S.call(e.name, xs);
     }
     default:
       return undefined;
   }
+}
+
+/** The module-level `toSymbolic`, reachable inside it where a local closure carries `special` down. */
+function toSymbolicWith(e: VExpr, special?: (call: VExpr & { kind: 'call' }) => S.Expr | undefined): S.Expr | undefined {
+  return toSymbolic(e, special);
 }
 
 /** Visits every array access inside a value expression, including accesses nested in subscripts. */

@@ -97,7 +97,7 @@ export class CExpressionBuilder {
     const values = indices.map((i) => this.value(i));
     return {
       array: normaliseName(base.text),
-      subscripts: values.map(toSymbolic),
+      subscripts: values.map((v) => toSymbolic(v)),
       subscriptText: values.map(printValue),
       subscriptValues: values,
       isWrite,

@@ -62,5 +62,5 @@ export function instantiate(template: VExpr, params: string[], args: VExpr[], at
 }
 
 export function rebuildAccess(a: ArrayAccess, values: VExpr[], at: Range): ArrayAccess {
-  return { ...a, subscriptValues: values, subscripts: values.map(toSymbolic), subscriptText: values.map(printValue), range: at };
+  return { ...a, subscriptValues: values, subscripts: values.map((v) => toSymbolic(v)), subscriptText: values.map(printValue), range: at };
 }

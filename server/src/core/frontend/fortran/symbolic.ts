@@ -31,43 +31,15 @@ function shapeInquiry(v: VExpr & { kind: 'call' }, lookup: DeclLookup): S.Expr |
   return S.sub(S.add(lower, d.dims[k - 1]), S.num(1));
 }
 
+/**
+ * Fortran's symbolic reading: the language-neutral one, with shape inquiries resolved and
+ * integer conversions (`int(n)`, `nint(n)`) of integer arguments keeping their value.
+ */
 export function fsym(v: VExpr, lookup: DeclLookup): S.Expr | undefined {
-  switch (v.kind) {
-    case 'call': {
-      const special = shapeInquiry(v, lookup);
-      if (special) return special;
-      const args = v.args.map((a) => fsym(a, lookup));
-      if (args.some((a) => a === undefined)) return undefined;
-      const xs = args as S.Expr[];
-      if ((v.name === 'min' || v.name === 'max') && xs.length >= 2) return xs.reduce((a, b) => (v.name === 'min' ? S.min(a, b) : S.max(a, b)));
-      if (v.name === 'mod' && xs.length === 2) return S.mod(xs[0], xs[1]);
-      // Integer conversions of integer arguments keep the value.
-      if ((v.name === 'int' || v.name === 'nint') && xs.length === 1 && v.args[0].kind !== 'num') return xs[0];
-      return S.call(v.name, xs);
-    }
-    case 'bin': {
-      const l = fsym(v.left, lookup);
-      const r = fsym(v.right, lookup);
-      if (!l || !r) return undefined;
-      switch (v.op) {
-        case '+': return S.add(l, r);
-        case '-': return S.sub(l, r);
-        case '*': return S.mul(l, r);
-        case '/': return S.floorDiv(l, r);
-        case '**': {
-          const k = S.constValue(r);
-          if (k === undefined || !Number.isInteger(k) || k < 0 || k > 8) return undefined;
-          return S.mul(...Array.from({ length: k }, () => l), S.num(1));
-        }
-        default: return undefined;
-      }
-    }
-    case 'unary': {
-      const x = fsym(v.operand, lookup);
-      if (!x) return undefined;
-      return v.op === '-' ? S.neg(x) : v.op === '+' ? x : undefined;
-    }
-    default:
-      return toSymbolic(v);
-  }
+  return toSymbolic(v, (call) => {
+    const special = shapeInquiry(call, lookup);
+    if (special) return special;
+    if ((call.name === 'int' || call.name === 'nint') && call.args.length === 1 && call.args[0].kind !== 'num') return fsym(call.args[0], lookup);
+    return undefined;
+  });
 }
