@@ -25,10 +25,6 @@ describe.skipIf(!gcc)('calibrate', () => {
       expect(r.stderr).toMatch(/measuring with 1 of 2 threads/);
       return JSON.parse(r.stdout).measurements.find((m: { threads: number }) => m.threads === threads).streamBandwidth;
     };
-    const probe = Math.max(calibrate(), calibrate());
-    const file = JSON.parse(readFileSync(out, 'utf8'));
-    expect(file.profiles.measured.host.bandwidthNode).toBeGreaterThan(0);
-    expect(file.profiles.measured.host.sources[0]).toMatch(/triad probe/);
 
     const exe = join(tmp, 'triad');
     const c = spawnSync('gcc', ['-O2', '-fopenmp', `-DN=${elements}`, join(ROOT, 'bench/kernels/triad.c'), '-o', exe], { encoding: 'utf8' });
@@ -38,14 +34,23 @@ describe.skipIf(!gcc)('calibrate', () => {
       const t = spawnSync(exe, ['8'], { encoding: 'utf8', env: { ...process.env, OMP_NUM_THREADS: String(threads) } });
       return (24 * elements) / Number(t.stdout.trim().split(/\s+/)[0]);
     };
-    const triad = Math.max(triadOnce(), triadOnce(), triadOnce());
+    // Alternate the two so that load from other work on the machine hits both alike.
+    let probe = 0;
+    let triad = 0;
+    for (let round = 0; round < 3; round++) {
+      probe = Math.max(probe, calibrate());
+      triad = Math.max(triad, triadOnce());
+    }
     console.log(`calibrate probe ${(probe / 1e9).toFixed(1)} GB/s, separate triad ${(triad / 1e9).toFixed(1)} GB/s (STREAM convention, ${threads} threads)`);
     expect(probe / triad).toBeGreaterThan(0.75);
     expect(probe / triad).toBeLessThan(1.25);
+    const file = JSON.parse(readFileSync(out, 'utf8'));
+    expect(file.profiles.measured.host.bandwidthNode).toBeGreaterThan(0);
+    expect(file.profiles.measured.host.sources[0]).toMatch(/triad probe/);
 
     // The profile is usable at once.
     const check = runCli(['check', '--machines', out, '--profile', 'measured', '--format', 'json', 'tests/fixtures/estimate/resident_inplace.c']);
     expect(check.status).toBe(0);
     expect(JSON.parse(check.stdout).machine.host.name).toBe('measured-host');
-  });
+  }, 300_000);
 });
