@@ -143,8 +143,9 @@ export class DataInterpreter {
     private readonly timeLoops: Set<LoopStmt>,
     private readonly bindingsOf: (p: Procedure) => Map<string, S.Expr>,
     private readonly nestStrides: (key: string) => S.Expr[][],
+    procs?: Map<string, Procedure>,
   ) {
-    this.procs = new Map(model.procedures.map((p) => [p.name, p]));
+    this.procs = procs ?? new Map(model.procedures.map((p) => [p.name, p]));
   }
 
   runProcedure(proc: Procedure): void {

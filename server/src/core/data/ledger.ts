@@ -60,8 +60,9 @@ export function dataLedger(
   const findings: Finding[] = [];
   const ledgers: TimeLoopLedger[] = [];
   const family = directiveFamily(model);
+  const procs = new Map(model.procedures.map((p) => [p.name, p]));
   for (const proc of new Set(outer.map((t) => t.procedure))) {
-    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides);
+    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides, procs);
     interp.runProcedure(proc);
     attachCoherenceFixes(interp, model, text, family);
     findings.push(...interp.findings);

@@ -32,13 +32,21 @@ export interface StepWork {
   transfers: { bytes: number; perStep: number }[];
 }
 
+/** Nests by their root loop, built once per list (a file has one list; step work asks per time loop). */
+const rootIndex = new WeakMap<NestReport[], Map<LoopStmt, NestReport>>();
+
 export function stepWork(ledger: TimeLoopLedger, nests: NestReport[]): StepWork | null {
-  const byRoot = new Map<LoopStmt, NestReport>(nests.map((n) => [n.nest.root, n]));
+  let byRoot = rootIndex.get(nests);
+  if (!byRoot) {
+    byRoot = new Map(nests.map((n) => [n.nest.root, n]));
+    rootIndex.set(nests, byRoot);
+  }
+  const roots = byRoot;
   const works = (e: Execution): Work[] | null => {
     const out: Work[] = [];
     let ok = true;
     walkStatements([e.stmt], (s: Stmt) => {
-      const n = s.kind === 'loop' ? byRoot.get(s) : undefined;
+      const n = s.kind === 'loop' ? roots.get(s) : undefined;
       if (!n) return true;
       const it = S.evaluate(nestIterations(n.nest).expr, e.bindings);
       if (it === undefined) ok = false;

@@ -129,13 +129,20 @@ export function setPrinter(p: (e: Expr) => string): void {
 export class Expr {
   /** Non-zero terms, highest monomial first (see `compareMonos`). */
   readonly terms: readonly Term[];
-  /** Canonical identity: equal keys mean equal expressions. */
-  readonly key: string;
+  private cachedKey: string | undefined;
 
   private constructor(terms: Term[]) {
     terms.sort((x, y) => compareMonos(x.mono, y.mono));
     this.terms = terms;
-    this.key = terms.map((t) => `${rtoString(t.coef)}\u0003${t.mono.key}`).join('\u0004');
+  }
+
+  /**
+   * Canonical identity: equal keys mean equal expressions. Built on first use, because most
+   * expressions are intermediate results that are never compared.
+   */
+  get key(): string {
+    this.cachedKey ??= this.terms.map((t) => `${rtoString(t.coef)}\u0003${t.mono.key}`).join('\u0004');
+    return this.cachedKey;
   }
 
   /** Builds an expression from terms that may repeat monomials or carry zero coefficients. */
