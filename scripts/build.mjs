@@ -1,9 +1,11 @@
-// Bundles the CLI (and, later, the language server and client) with esbuild.
+// Bundles the CLI, the language server (and its analysis worker) and the VS Code client with
+// esbuild, and generates the TextMate injection grammars.
 // Runs from `npm install` (prepare) so that `npx offload-ledger` works from a fresh clone.
 import { build } from 'esbuild';
 import { existsSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { writeGrammars } from './grammars.mjs';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const entry = join(root, 'server/src/cli/main.ts');
@@ -11,8 +13,18 @@ if (!existsSync(entry)) {
   console.log('build: nothing to bundle yet');
   process.exit(0);
 }
+
+const serverEntries = {
+  cli: entry,
+  api: join(root, 'server/src/api.ts'),
+  // The language server the extension starts over IPC (`node lsp.js --node-ipc`) and editors over stdio.
+  lsp: join(root, 'server/src/lsp/main.ts'),
+  // The analysis worker thread; the server finds it beside its own bundle.
+  'lsp-worker': join(root, 'server/src/lsp/analysis/workerMain.ts'),
+};
+
 await build({
-  entryPoints: { cli: entry, api: join(root, 'server/src/api.ts') },
+  entryPoints: serverEntries,
   outdir: join(root, 'server/dist'),
   bundle: true,
   platform: 'node',
@@ -26,4 +38,19 @@ await build({
   banner: { js: "const importMetaUrl = require('url').pathToFileURL(__filename).href;" },
   logLevel: 'warning',
 });
-console.log('build: server/dist/cli.js, server/dist/api.js');
+
+// The client runs inside VS Code's extension host, which provides the `vscode` module.
+await build({
+  entryPoints: { extension: join(root, 'client/src/extension.ts') },
+  outdir: join(root, 'client/dist'),
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'cjs',
+  sourcemap: true,
+  external: ['vscode'],
+  logLevel: 'warning',
+});
+
+const grammars = await writeGrammars(root);
+console.log(`build: server/dist/{cli,api,lsp,lsp-worker}.js, client/dist/extension.js, ${grammars.length} grammars`);

@@ -40,7 +40,7 @@ commands:
   check <files|dirs>       loop costs, bytes across the link per time step, stale data, suggested data regions
   plan <files|dirs>        throughput and cost of many independent runs (--runs N, --pool host=H,device=D)
   calibrate                measure this machine's memory bandwidth and write a host profile
-  serve --stdio            run the language server
+  serve --stdio            run the language server (also --node-ipc, --socket=N)
 
 options:
   --format text|json|sarif output format (default text; json follows the published report schema; sarif is SARIF 2.1.0)
@@ -50,7 +50,7 @@ options:
   --machines FILE          machines file (default ./offload-ledger.machines.json when present)
   --runs N                 plan: number of independent runs
   --pool host=H,device=D   plan: a mixed pool of H host nodes and D device nodes
-  --cc PATH                calibrate: C compiler with OpenMP (default gcc)
+  --cc PATH                calibrate: C compiler with OpenMP (default gcc; --compiler is the same)
   --out FILE               calibrate: machines file to write the measured profile into
   --max-threads N          calibrate: measure 1..N threads (default: all cores)
   --help, --version
@@ -78,6 +78,7 @@ export function parseCli(argv: string[]): CliArgs {
         runs: { type: 'string' },
         pool: { type: 'string' },
         cc: { type: 'string' },
+        compiler: { type: 'string' },
         out: { type: 'string' },
         'max-threads': { type: 'string' },
         'array-mib': { type: 'string' },
@@ -100,7 +101,7 @@ export function parseCli(argv: string[]): CliArgs {
   if (command === 'serve') return { command: 'serve' };
   if (command === 'calibrate') {
     return {
-      command: 'calibrate', cc: values.cc ?? 'gcc', out: values.out, format: format === 'json' ? 'json' : 'text',
+      command: 'calibrate', cc: values.cc ?? values.compiler ?? 'gcc', out: values.out, format: format === 'json' ? 'json' : 'text',
       maxThreads: positiveInt(values['max-threads'], '--max-threads'), arrayMiB: positiveInt(values['array-mib'], '--array-mib'),
     };
   }

@@ -14,6 +14,7 @@ import { InputError, collectSources, readSource } from './files';
 import { chooseProfile, readMachinesFile } from './machines';
 import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
+import { startServer } from '../lsp';
 
 type Out = (s: string) => void;
 
@@ -28,8 +29,9 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
         out(TOOL_VERSION);
         return 0;
       case 'serve':
-        err('offload-ledger: the language server is started by the VS Code extension; `serve` is not available in this build');
-        return 2;
+        // The server reads --stdio / --node-ipc / --socket from the process arguments itself.
+        startServer();
+        return new Promise<number>(() => undefined);
       case 'calibrate': {
         const { host, measurements } = measure(args, err);
         const file = writeProfile(host, args.out);

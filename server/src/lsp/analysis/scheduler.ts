@@ -1,0 +1,130 @@
+/**
+ * Keeps each open document's newest view: debounces edits, sends the newest text to the engine,
+ * drops results that an edit has made stale, and lets requests wait for the view of the text
+ * the editor shows. Publishing is left to the caller (`onView`).
+ */
+import type { DocumentView } from '../view/types';
+import { type AnalysisEngine, Superseded } from './engine';
+import type { AnalysisJob } from './job';
+
+export interface SchedulerHooks {
+  /** The job for the document's current text, or undefined when it is closed or not a source. */
+  makeJob(uri: string): Promise<AnalysisJob | undefined>;
+  currentVersion(uri: string): number | undefined;
+  onView(view: DocumentView): void;
+  onError(uri: string, error: unknown): void;
+  onBusyChange?(busy: boolean): void;
+}
+
+interface Waiter {
+  version: number;
+  resolve: (v: DocumentView | undefined) => void;
+}
+
+export class Scheduler {
+  private readonly timers = new Map<string, NodeJS.Timeout>();
+  private readonly views = new Map<string, DocumentView>();
+  private readonly waiters = new Map<string, Waiter[]>();
+  private inFlight = 0;
+  private readonly running = new Map<string, number>();
+
+  constructor(
+    private readonly engine: AnalysisEngine,
+    private readonly hooks: SchedulerHooks,
+  ) {}
+
+  /** Analyse `uri` after `delayMs` of quiet; a newer call restarts the wait. */
+  schedule(uri: string, delayMs: number): void {
+    clearTimeout(this.timers.get(uri));
+    this.timers.set(
+      uri,
+      setTimeout(() => {
+        this.timers.delete(uri);
+        void this.run(uri);
+      }, delayMs),
+    );
+  }
+
+  forget(uri: string): void {
+    clearTimeout(this.timers.get(uri));
+    this.timers.delete(uri);
+    this.views.delete(uri);
+    for (const w of this.waiters.get(uri) ?? []) w.resolve(undefined);
+    this.waiters.delete(uri);
+  }
+
+  /** The last view, whatever its version (for requests that may use slightly stale data). */
+  latest(uri: string): DocumentView | undefined {
+    return this.views.get(uri);
+  }
+
+  allViews(): DocumentView[] {
+    return [...this.views.values()];
+  }
+
+  /**
+   * The view of the document's current version, waiting for its analysis when one is due.
+   * Resolves undefined when the document closes, the analysis fails, or `cancelled` fires.
+   */
+  viewFor(uri: string, onCancel?: (cb: () => void) => void): Promise<DocumentView | undefined> {
+    const version = this.hooks.currentVersion(uri);
+    if (version === undefined) return Promise.resolve(undefined);
+    const v = this.views.get(uri);
+    if (v && v.version === version) return Promise.resolve(v);
+    // Nothing due for this document (say, its last analysis failed): start one now.
+    if (!this.timers.has(uri) && !this.running.get(uri)) this.schedule(uri, 0);
+    return new Promise((resolve) => {
+      const w: Waiter = { version, resolve };
+      this.waiters.set(uri, [...(this.waiters.get(uri) ?? []), w]);
+      onCancel?.(() => {
+        this.waiters.set(uri, (this.waiters.get(uri) ?? []).filter((x) => x !== w));
+        resolve(undefined);
+      });
+    });
+  }
+
+  private async run(uri: string): Promise<void> {
+    const job = await this.hooks.makeJob(uri);
+    if (!job) {
+      this.settle(uri, undefined);
+      return;
+    }
+    this.busy(+1);
+    this.running.set(uri, (this.running.get(uri) ?? 0) + 1);
+    try {
+      const view = await this.engine.analyze(job);
+      // An edit that arrived during the analysis has scheduled a newer one: drop this result.
+      if (view.version !== this.hooks.currentVersion(uri)) return;
+      this.views.set(uri, view);
+      this.hooks.onView(view);
+      this.settle(uri, view);
+    } catch (e) {
+      if (e instanceof Superseded) return;
+      this.hooks.onError(uri, e);
+      this.settle(uri, this.views.get(uri));
+    } finally {
+      this.running.set(uri, (this.running.get(uri) ?? 1) - 1);
+      this.busy(-1);
+    }
+  }
+
+  private settle(uri: string, view: DocumentView | undefined): void {
+    const ws = this.waiters.get(uri) ?? [];
+    const keep = ws.filter((w) => view && w.version > view.version);
+    for (const w of ws) if (!keep.includes(w)) w.resolve(view);
+    if (keep.length > 0) this.waiters.set(uri, keep);
+    else this.waiters.delete(uri);
+  }
+
+  private busy(delta: number): void {
+    const before = this.inFlight > 0;
+    this.inFlight += delta;
+    const after = this.inFlight > 0;
+    if (before !== after) this.hooks.onBusyChange?.(after);
+  }
+
+  dispose(): void {
+    for (const t of this.timers.values()) clearTimeout(t);
+    this.timers.clear();
+  }
+}

@@ -1,0 +1,128 @@
+/**
+ * The hover cards, as Markdown: one for a loop nest, one for a time loop, one for an array.
+ * Each card states the figures the core computed and the assumptions behind them (profile,
+ * baseline, size bindings); a figure the core did not compute is shown as absent, never guessed.
+ */
+import type { NestReport, TimeLoopReport } from '../../core/analyze';
+import { nestIterations } from '../../core/analysis/nests';
+import type { TransferReport } from '../../core/data/ledger';
+import type { NestEstimate, StepEstimate } from '../../core/estimate/types';
+import type { ViewContext, ArraySize } from './context';
+import { boundText, bytesMd, codeSpan, countMd, formatBytes, formatFactor, formatIntensity, formatPerIteration, formatSeconds, formatSpeedup } from './format';
+
+export interface CardSettings {
+  profileName: string;
+  baseline: string;
+}
+
+const FAMILY: Record<string, string> = { openacc: 'OpenACC', openmp: 'OpenMP' };
+
+function table(rows: [string, string][]): string {
+  return ['| | |', '|:--|:--|', ...rows.map(([k, v]) => `| ${k} | ${v.replace(/\|/g, '\\|')} |`)].join('\n');
+}
+
+function assumptions(ctx: ViewContext, symbols: [string, number | undefined][], s: CardSettings, estimated: boolean): string {
+  const bound = symbols.filter(([, v]) => v !== undefined).map(([k, v]) => `${k} = ${v!.toLocaleString('en-US')}${ctx.userBindings.has(k) ? ' (setting)' : ''}`);
+  const unbound = symbols.filter(([, v]) => v === undefined).map(([k]) => `\`${k}\``);
+  const parts = [estimated ? `profile \`${s.profileName}\`, baseline ${s.baseline === 'core' ? 'one host core' : 'the whole host node'}` : `no machine estimate in this version (profile \`${s.profileName}\` selected)`];
+  if (bound.length > 0) parts.push(`sizes ${bound.join(', ')}`);
+  if (unbound.length > 0) parts.push(`unbound ${unbound.join(', ')} (bind with \`offloadLedger.sizeBindings\`)`);
+  return `*Assumptions:* ${parts.join('; ')}.`;
+}
+
+export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: ViewContext, s: CardSettings): string {
+  const n = r.nest;
+  const line = n.root.keywordRange.start.line + 1;
+  const where = n.offload ? `offloaded (${FAMILY[n.offload.family] ?? n.offload.family} \`${n.offload.construct}\`)` : 'runs on the host';
+  const rows: [string, string][] = [
+    ['iterations', countMd(r.iterations) + (r.approximate ? ' (approximate: triangular bounds)' : '')],
+    ['flops / iteration', formatPerIteration(r.cost.flopsPerIteration)],
+    ['bytes / iteration', `${formatPerIteration(r.cost.bytes.device)} device · ${formatPerIteration(r.cost.bytes.host)} host`],
+    ['arithmetic intensity', `${formatIntensity(r.cost.intensity.device)} device · ${formatIntensity(r.cost.intensity.host)} host (flop/byte)`],
+  ];
+  if (est) {
+    rows.push(['host time', formatSeconds(est.hostSeconds)], ['device time', formatSeconds(est.deviceSeconds)]);
+    rows.push(['speedup', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
+  } else {
+    rows.push(['speedup', '— (not estimated)']);
+  }
+  const symbols = ctx.symbolValues(nestIterations(n).expr, n.procedure);
+  return [
+    `**Loop nest at line ${line}** · \`${n.variables.join(', ')}\` in \`${n.procedure.name}\` · ${where}`,
+    '',
+    table(rows),
+    '',
+    assumptions(ctx, symbols, s, !!est),
+  ].join('\n');
+}
+
+export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, ctx: ViewContext, s: CardSettings): string {
+  const loop = t.timeLoop.loop;
+  const line = loop.keywordRange.start.line + 1;
+  const head = `**Time loop at line ${line}** · \`${loop.variable ?? 'while'}\` in \`${t.timeLoop.procedure.name}\` · ${countMd(t.steps)} steps`;
+  const l = t.ledger;
+  if (!l) return `${head}\n\nInside another time loop: its transfers are counted per step of the outer loop.`;
+  const rows: [string, string][] = [
+    ['to device per step', bytesMd(l.perStep.toDevice)],
+    ['to host per step', bytesMd(l.perStep.toHost)],
+    ['once (region entry / exit)', `${bytesMd(l.once.toDevice)} in · ${bytesMd(l.once.toHost)} out`],
+    ['transfers in the loop', l.transfers.length === 0 ? 'none' : `${l.transfers.length} (lines ${[...new Set(l.transfers.map((x) => x.range.start.line + 1))].join(', ')})`],
+  ];
+  if (l.residentBytes !== null) rows.push(['resident on the device', formatBytes(l.residentBytes)]);
+  if (est) {
+    rows.push(['host step', formatSeconds(est.hostSeconds)]);
+    rows.push(['device step', `${formatSeconds(est.deviceSeconds)} (kernels ${formatSeconds(est.kernelSeconds)} · launches ${formatSeconds(est.launchSeconds)} · transfers ${formatSeconds(est.transferSeconds)} · host code ${formatSeconds(est.hostLeftSeconds)})`]);
+    rows.push(['speedup', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
+    if (est.withRegion) rows.push(['with the suggested data region', est.withRegion.speedup ? `${formatSpeedup(est.withRegion.speedup)}, bound by ${boundText(est.withRegion.bound)}` : '—']);
+    if (est.runsPerDevice !== null) rows.push(['runs per device', String(est.runsPerDevice)]);
+  } else {
+    rows.push(['speedup', '— (not estimated)']);
+  }
+  const out = [head, '', table(rows)];
+  if (l.dataRegion) {
+    const r = l.dataRegion;
+    const updates = r.updates.length > 0 ? ` plus ${r.updates.length} update${r.updates.length === 1 ? '' : 's'} for host code in the loop` : '';
+    out.push('', `Suggested data region: ${r.clauses.map((c) => `\`${c.clause}(${c.section ?? c.array})\``).join(' ')}${updates} (quick fix on the transfer findings).`);
+  }
+  const symbols = loop.tripCount ? ctx.symbolValues(loop.tripCount, t.timeLoop.procedure) : [];
+  out.push('', assumptions(ctx, symbols, s, !!est));
+  return out.join('\n');
+}
+
+export interface ArrayCardInput {
+  name: string;
+  size: ArraySize | undefined;
+  /** Transfers of this array made by the clause or directive under the cursor. */
+  here: TransferReport[];
+  /** All transfers of this array in the time loops of the file. */
+  all: { loopLine: number; transfers: TransferReport[] }[];
+  /** Stencil facts from the loop nest the access is in. */
+  footprint?: { reads: number; writes: number; radius: number[]; inPlace: boolean };
+}
+
+function perStep(ts: TransferReport[], dir: 'toDevice' | 'toHost'): string {
+  const xs = ts.filter((t) => t.direction === dir);
+  if (xs.length === 0) return '0 B';
+  if (xs.some((t) => t.bytes.value === null)) return codeSpan(xs.map((t) => `${t.bytes.expr}/${t.everySteps}`).join(' + ')) + ' B';
+  return formatBytes(xs.reduce((a, t) => a + t.bytes.value! / t.everySteps, 0));
+}
+
+export function arrayCard(a: ArrayCardInput): string {
+  const size = a.size;
+  const head = `**\`${a.name}\`**${size ? ` · ${size.elementType}${size.elementBytes ? ` (${size.elementBytes} B)` : ''}` : ''}${size?.elements ? ` · ${countMd(size.elements)} elements` : ''}${size?.bytes != null ? ` · ${formatBytes(size.bytes)}` : ''}`;
+  const rows: [string, string][] = [];
+  if (a.here.length > 0) {
+    const every = [...new Set(a.here.map((t) => t.everySteps))].map((k) => (k === 1 ? 'every step' : `every ${k} steps`)).join(', ');
+    rows.push(['moved here', `${perStep(a.here, 'toDevice')} to device · ${perStep(a.here, 'toHost')} to host per step (${every})`]);
+  }
+  for (const l of a.all) {
+    if (l.transfers.length === 0) continue;
+    rows.push([`per step, time loop at line ${l.loopLine}`, `${perStep(l.transfers, 'toDevice')} to device · ${perStep(l.transfers, 'toHost')} to host`]);
+  }
+  if (a.footprint) {
+    const f = a.footprint;
+    rows.push(['in this nest', `${f.reads} read(s), ${f.writes} write(s) per iteration, stencil radius ${f.radius.length > 0 ? f.radius.join('×') : '0'}${f.inPlace ? ', updated in place' : ''}`]);
+  }
+  if (rows.length === 0) rows.push(['per step', 'does not cross the link in any time loop']);
+  return [head, '', table(rows)].join('\n');
+}

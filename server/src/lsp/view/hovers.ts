@@ -1,0 +1,150 @@
+/**
+ * Where hovers answer, and with which card: loop keywords and the directives that offload them
+ * (nest card), time-loop keywords (per-step card), array names in clauses and in offloaded or
+ * host loop bodies (array card). The smallest range under the cursor wins, so an array name in a
+ * clause beats the directive around it.
+ */
+import type { Range } from 'vscode-languageserver-protocol';
+import type { FileAnalysis } from '../../core/analyze';
+import type { TimeLoopLedger, TransferReport } from '../../core/data/ledger';
+import type { LoopStmt, Stmt } from '../../core/model/program';
+import { accessesOfStatement, walkStatements } from '../../core/model/values';
+import type { Range as CoreRange, VarRef } from '../../core/types';
+import { arrayCard, nestCard, timeLoopCard, type CardSettings } from './cards';
+import type { ViewContext } from './context';
+import { nestEstimate, stepEstimate } from './estimates';
+import { toLspRange } from './ranges';
+import type { HoverEntry } from './types';
+
+export interface HoverIndex {
+  hovers: Record<number, HoverEntry[]>;
+  cards: string[];
+}
+
+export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings): HoverIndex {
+  const out: HoverIndex = { hovers: {}, cards: [] };
+  const cardIds = new Map<string, number>();
+  const card = (key: string, make: () => string): number => {
+    let id = cardIds.get(key);
+    if (id === undefined) {
+      id = out.cards.push(make()) - 1;
+      cardIds.set(key, id);
+    }
+    return id;
+  };
+  const add = (r: CoreRange, id: number): void => {
+    const range = toLspRange(r);
+    for (let line = range.start.line; line <= range.end.line; line++) (out.hovers[line] ??= []).push({ range, card: id });
+  };
+  // The time loops that matter at a position: those of the procedure it is in, and those whose
+  // transfers happen there through a call. Indexed once: a file may hold a thousand time loops.
+  const ledgers = a.timeLoops.flatMap((t) => (t.ledger ? [t.ledger] : []));
+  const byProcedure = new Map<string, Set<TimeLoopLedger>>();
+  const note = (proc: string | undefined, l: TimeLoopLedger): void => {
+    if (proc === undefined) return;
+    byProcedure.set(proc, (byProcedure.get(proc) ?? new Set()).add(l));
+  };
+  const transfersAt = new Map<string, TransferReport[]>();
+  const key = (r: CoreRange): string => `${r.start.line}:${r.start.col}:${r.end.line}:${r.end.col}`;
+  for (const l of ledgers) {
+    note(l.procedure.name, l);
+    for (const t of l.transfers) {
+      note(ctx.procedureAt(t.range)?.name, l);
+      const k = key(t.at ?? t.range);
+      transfersAt.set(k, [...(transfersAt.get(k) ?? []), t]);
+    }
+  }
+  const transfersOf = (name: string, at: CoreRange): { loopLine: number; transfers: TransferReport[] }[] =>
+    [...(byProcedure.get(ctx.procedureAt(at)?.name ?? '') ?? [])].map((l) => ({ loopLine: l.loop.keywordRange.start.line + 1, transfers: l.transfers.filter((t) => t.array === name) }));
+
+  // Loop nests: every loop keyword of the nest and the directive that offloads it.
+  a.nests.forEach((r, k) => {
+    const id = card(`nest:${k}`, () => nestCard(r, nestEstimate(r), ctx, s));
+    for (const loop of loopsOf(r.nest.root)) if (!loop.implied) add(loop.keywordRange, id);
+    if (r.nest.offload) add(r.nest.offload.range, id);
+    for (const d of r.nest.root.directives) if (d !== r.nest.offload) add(d.range, id);
+  });
+
+  // Time loops.
+  a.timeLoops.forEach((t, k) => {
+    const id = card(`time:${k}`, () => timeLoopCard(t, stepEstimate(t), ctx, s));
+    add(t.timeLoop.loop.keywordRange, id);
+  });
+
+  // Array names in clauses: the transfers this clause makes, and the array's totals.
+  for (const d of a.model.directives) {
+    for (const c of d.clauses) {
+      for (const v of c.vars ?? []) {
+        const proc = ctx.procedureAt(v.range);
+        const here = [...(transfersAt.get(key(v.range)) ?? []), ...(transfersAt.get(key(d.range)) ?? []).filter((t) => !t.at)].filter((t) => t.array === v.name);
+        const id = card(`var:${v.range.start.line}:${v.range.start.col}`, () =>
+          arrayCard({ name: v.name, size: ctx.arraySize(v.name, proc, v), here, all: transfersOf(v.name, v.range) }),
+        );
+        add(nameRange(v), id);
+      }
+    }
+  }
+
+  // Array names in loop bodies: the array card with this nest's stencil facts.
+  a.nests.forEach((r, k) => {
+    walk(r.nest.root.body, (s) => {
+      for (const acc of accessesOfStatement(s)) {
+        const fp = r.cost.footprints.find((f) => f.array === acc.array);
+        const id = card(`acc:${k}:${acc.array}`, () =>
+          arrayCard({
+            name: acc.array,
+            size: ctx.arraySize(acc.array, r.nest.procedure),
+            here: [],
+            all: transfersOf(acc.array, r.nest.root.range),
+            footprint: fp ? { reads: fp.reads, writes: fp.writes, radius: fp.radius, inPlace: fp.inPlace } : undefined,
+          }),
+        );
+        const start = acc.range.start;
+        add({ start, end: { line: start.line, col: start.col + acc.array.length } }, id);
+      }
+    });
+  });
+
+  return out;
+}
+
+/** The hover under a position: the smallest range that contains it. */
+export function findHover(index: { hovers: Record<number, HoverEntry[]> }, line: number, character: number): HoverEntry | undefined {
+  let best: HoverEntry | undefined;
+  for (const e of index.hovers[line] ?? []) {
+    if (!inside(e.range, line, character)) continue;
+    if (!best || size(e.range) < size(best.range)) best = e;
+  }
+  return best;
+}
+
+function inside(r: Range, line: number, ch: number): boolean {
+  const afterStart = line > r.start.line || (line === r.start.line && ch >= r.start.character);
+  const beforeEnd = line < r.end.line || (line === r.end.line && ch < r.end.character);
+  return afterStart && beforeEnd;
+}
+
+/** Ranges compared by lines first, then characters, so a one-line name beats a multi-line directive. */
+function size(r: Range): number {
+  return (r.end.line - r.start.line) * 1e6 + (r.end.character - r.start.character);
+}
+
+/** The name part of a clause variable (`p` of `p[0:N]`), when it sits on one line. */
+function nameRange(v: VarRef): CoreRange {
+  const s = v.range.start;
+  return v.range.end.line === s.line && v.text.startsWith(v.name) ? { start: s, end: { line: s.line, col: s.col + v.name.length } } : v.range;
+}
+
+function loopsOf(root: LoopStmt): LoopStmt[] {
+  const out: LoopStmt[] = [root];
+  walk(root.body, (s) => {
+    if (s.kind === 'loop') out.push(s);
+  });
+  return out;
+}
+
+function walk(stmts: Stmt[], visit: (s: Stmt) => void): void {
+  walkStatements(stmts, (s) => {
+    visit(s);
+  });
+}

@@ -1,0 +1,133 @@
+/**
+ * The one settings schema of Offload Ledger. The language server validates
+ * `workspace/configuration` answers against it, and the extension's package.json
+ * `contributes.configuration` is generated from it (`npm run manifest`), so the two never drift:
+ * `tests/settings.test.ts` fails when they differ.
+ *
+ * Entries are JSON Schema fragments in the subset VS Code's settings editor understands, plus
+ * `usedBy`, which says whether the server or only the client reads the value.
+ */
+import { DEFAULT_PROFILE, PRESETS } from '../core/machine/profiles';
+import { FINDING_CODES } from './codes';
+
+export type SettingScope = 'application' | 'machine' | 'machine-overridable' | 'window' | 'resource';
+
+export interface ValueSchema {
+  type: 'string' | 'boolean' | 'integer' | 'object';
+  enum?: readonly string[];
+  minimum?: number;
+  maximum?: number;
+  /** For objects: the schema of each value, and a pattern each key must match. */
+  additionalProperties?: ValueSchema | false;
+  properties?: Record<string, ValueSchema>;
+  propertyNames?: { pattern: string };
+}
+
+export interface SettingSpec extends ValueSchema {
+  default: unknown;
+  markdownDescription: string;
+  scope: SettingScope;
+  enumDescriptions?: readonly string[];
+  usedBy: 'server' | 'client';
+}
+
+export const SECTION = 'offloadLedger';
+
+const SEVERITY_VALUES = ['error', 'warning', 'info', 'hint', 'off'] as const;
+
+/** Keys are relative to the `offloadLedger` section; package.json shows them with the prefix. */
+export const SETTINGS = {
+  profile: {
+    type: 'string',
+    enum: Object.keys(PRESETS),
+    enumDescriptions: Object.values(PRESETS).map((p) => p.description),
+    default: DEFAULT_PROFILE,
+    scope: 'window',
+    usedBy: 'server',
+    markdownDescription: 'Machine profile (host, device and link) the estimates assume. Built-in profiles are named by technology class; `Offload Ledger: Measure This Machine` replaces the host part with measured figures.',
+  },
+  baseline: {
+    type: 'string',
+    enum: ['node', 'core'],
+    enumDescriptions: ['Compare one device with the whole host node (all cores).', 'Compare one device with one host core (one run per core, as in parameter sweeps).'],
+    default: 'node',
+    scope: 'window',
+    usedBy: 'server',
+    markdownDescription: 'What the speedup is measured against: the whole host node or one host core.',
+  },
+  sizeBindings: {
+    type: 'object',
+    additionalProperties: { type: 'integer' },
+    propertyNames: { pattern: '^[A-Za-z_][\\w.%>-]*$' },
+    default: {},
+    scope: 'resource',
+    usedBy: 'server',
+    markdownDescription: 'Values for size symbols the sources leave open, e.g. `{ "NX": 600, "NY": 400 }` (the same as `--bind NX=600` on the command line). They override the values found in the file.',
+  },
+  severity: {
+    type: 'object',
+    properties: Object.fromEntries(FINDING_CODES.map((c) => [c, { type: 'string', enum: SEVERITY_VALUES }])),
+    additionalProperties: false,
+    default: {},
+    scope: 'resource',
+    usedBy: 'server',
+    markdownDescription: 'Severity per finding code (`error`, `warning`, `info`, `hint`, or `off` to hide it), e.g. `{ "already-present": "hint" }`. Codes not listed keep their default from docs/findings.md.',
+  },
+  'codeLens.enabled': {
+    type: 'boolean',
+    default: true,
+    scope: 'window',
+    usedBy: 'server',
+    markdownDescription: 'Show the per-step ledger above each time loop (bytes to the device and to the host, estimated speedup).',
+  },
+  'inlayHints.enabled': {
+    type: 'boolean',
+    default: false,
+    scope: 'window',
+    usedBy: 'server',
+    markdownDescription: 'Show the bytes each data directive moves per time step at the end of its line.',
+  },
+  debounceMs: {
+    type: 'integer',
+    minimum: 0,
+    maximum: 10000,
+    default: 300,
+    scope: 'window',
+    usedBy: 'server',
+    markdownDescription: 'Milliseconds of quiet after an edit before the file is analysed again.',
+  },
+  measuredHostProfile: {
+    type: 'string',
+    default: '',
+    scope: 'machine',
+    usedBy: 'server',
+    markdownDescription: 'Path of a host profile written by `offload-ledger calibrate --out <file>` (set by `Offload Ledger: Measure This Machine`). When set, it replaces the host part of the chosen profile.',
+  },
+  'calibrate.compiler': {
+    type: 'string',
+    default: '',
+    scope: 'machine',
+    usedBy: 'client',
+    markdownDescription: 'C compiler that `Offload Ledger: Measure This Machine` uses to build its measurement kernels. Empty: the tool looks for one on the PATH.',
+  },
+  'trace.server': {
+    type: 'string',
+    enum: ['off', 'messages', 'verbose'],
+    default: 'off',
+    scope: 'window',
+    usedBy: 'client',
+    markdownDescription: 'Log the messages between VS Code and the Offload Ledger language server in its output channel.',
+  },
+} as const satisfies Record<string, SettingSpec>;
+
+export type SettingKey = keyof typeof SETTINGS;
+
+/** The `contributes.configuration` block of package.json, derived from the schema. */
+export function contributedConfiguration(): { title: string; properties: Record<string, unknown> } {
+  const properties: Record<string, unknown> = {};
+  for (const [key, spec] of Object.entries(SETTINGS) as [string, SettingSpec][]) {
+    const { usedBy: _usedBy, ...rest } = spec;
+    properties[`${SECTION}.${key}`] = rest;
+  }
+  return { title: 'Offload Ledger', properties };
+}
