@@ -30,6 +30,11 @@ describe('editor machine profiles', () => {
     expect(r.warnings.join('\n')).toMatch(/cores must be >= 1/);
     expect(r.profile.name).toBe('pcie4-hbm2e');
   });
+  it('fall back with a warning on a profile name nobody defines', () => {
+    const r = resolveProfile('warp-drive', '');
+    expect(r.profile.name).toBe('pcie4-hbm2e');
+    expect(r.warnings.join('\n')).toMatch(/unknown profile "warp-drive"; using pcie4-hbm2e/);
+  });
   it('read the host that calibrate writes into a machines file', () => {
     const host = { name: 'measured-host', description: 'x', cores: 2, bandwidthNode: 2e10, bandwidthCore: 1e10, peakFlopsNode: 1e11, cacheBytesPerCore: 2e6, memoryBytes: 2e10, sources: ['probe'] };
     const parsed = parseHostProfile({ profiles: { measured: { description: 'x', host } } });

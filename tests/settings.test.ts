@@ -27,8 +27,9 @@ describe('settings schema and package.json', () => {
     expect(SETTINGS['calibrate.compiler'].scope).toBe('machine');
     expect(SETTINGS.measuredHostProfile.scope).toBe('machine');
   });
-  it('the profile setting offers every preset and defaults to the core default (core/machine/profiles.ts)', () => {
-    expect(SETTINGS.profile.enum).toEqual(Object.keys(PRESETS));
+  it('the profile setting names every preset, allows workspace profiles, and defaults to the core default (core/machine/profiles.ts)', () => {
+    for (const name of Object.keys(PRESETS)) expect(SETTINGS.profile.markdownDescription).toContain(`\`${name}\``);
+    expect('enum' in SETTINGS.profile).toBe(false);
     expect(SETTINGS.profile.default).toBe(DEFAULT_PROFILE);
   });
   it('severities can be set for every finding code of docs/findings.md', () => {
@@ -53,12 +54,12 @@ describe('reading settings', () => {
     expect(readSettings({ 'inlayHints.enabled': true }).settings['inlayHints.enabled']).toBe(true);
   });
   it('a bad value warns, names the key and falls back to the default', () => {
-    const r = readSettings({ profile: 'warp-drive', debounceMs: -5, baseline: 3 });
+    const r = readSettings({ profile: 42, debounceMs: -5, baseline: 3 });
     expect(r.settings.profile).toBe(DEFAULT_PROFILE);
     expect(r.settings.debounceMs).toBe(300);
     expect(r.settings.baseline).toBe('node');
     expect(r.warnings).toHaveLength(3);
-    expect(r.warnings[0]).toMatch(/offloadLedger\.profile: "warp-drive" is not one of .*using the default "pcie4-hbm2e"/);
+    expect(r.warnings[0]).toMatch(/offloadLedger\.profile: .*using the default "pcie4-hbm2e"/);
   });
   it('objects keep their good entries and drop the bad ones, each with a warning', () => {
     const r = readSettings({ sizeBindings: { NX: 600, NY: 'many', '9bad': 3 }, severity: { 'already-present': 'hint', 'no-such-code': 'off', 'stale-on-host': 'loud' } });

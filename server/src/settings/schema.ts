@@ -38,13 +38,12 @@ const SEVERITY_VALUES = ['error', 'warning', 'info', 'hint', 'off'] as const;
 /** Keys are relative to the `offloadLedger` section; package.json shows them with the prefix. */
 export const SETTINGS = {
   profile: {
+    // Not an enum: a workspace's offload-ledger.machines.json adds profiles of its own.
     type: 'string',
-    enum: Object.keys(PRESETS),
-    enumDescriptions: Object.values(PRESETS).map((p) => p.description),
     default: DEFAULT_PROFILE,
     scope: 'window',
     usedBy: 'server',
-    markdownDescription: 'Machine profile (host, device and link) the estimates assume. Built-in profiles are named by technology class; `Offload Ledger: Measure This Machine` replaces the host part with measured figures.',
+    markdownDescription: `Machine profile (host, device and link) the estimates assume: a built-in profile (${Object.keys(PRESETS).map((p) => `\`${p}\``).join(', ')}, named by technology class) or a profile from the workspace's \`offload-ledger.machines.json\`. \`Offload Ledger: Measure This Machine\` replaces the host part with measured figures.`,
   },
   baseline: {
     type: 'string',
