@@ -5,25 +5,20 @@
 //   - resident memory of the server process (main thread + analysis worker) after opening every
 //     source of the demo workspace (examples/).
 // Usage: npm run build && node bench/lsp-latency.mjs [edits per size, default 5]
-import { build } from 'esbuild';
 import { readFileSync, readdirSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import { performance } from 'node:perf_hooks';
+import { loadTs } from '../scripts/load-ts.mjs';
 import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const edits = Number(process.argv[2] ?? 5);
 
-// The test suite's LSP client and source generator, bundled in memory (they are TypeScript).
-async function load(entry) {
-  const out = await build({ entryPoints: [join(root, entry)], bundle: true, write: false, format: 'cjs', platform: 'node', logLevel: 'silent', external: ['vscode-jsonrpc', 'vscode-languageserver-protocol'] });
-  const mod = { exports: {} };
-  new Function('module', 'exports', 'require', '__dirname', out.outputFiles[0].text)(mod, mod.exports, createRequire(join(root, entry)), dirname(join(root, entry)));
-  return mod.exports;
-}
-const { startTestClient } = await load('tests/e2e/lspClient.ts');
-const { generateSource, linesWith } = await load('tests/e2e/generate.ts');
+// The test suite's LSP client and source generator (TypeScript, bundled in memory).
+const external = ['vscode-jsonrpc', 'vscode-languageserver-protocol'];
+const { startTestClient } = await loadTs('tests/e2e/lspClient.ts', external);
+const { generateSource, linesWith } = await loadTs('tests/e2e/generate.ts', external);
 const server = join(root, 'server', 'dist', 'lsp.js');
 
 const stats = (xs) => {

@@ -3,6 +3,7 @@
 // Usage: npm run build && node bench/parse-bench.mjs [lines]
 import { createRequire } from 'node:module';
 import { performance } from 'node:perf_hooks';
+import { loadTs } from '../scripts/load-ts.mjs';
 
 const require = createRequire(import.meta.url);
 const api = require('../server/dist/api.js');
@@ -10,34 +11,10 @@ const { Parser, Language } = require('web-tree-sitter');
 
 const target = Number(process.argv[2] ?? 20000);
 
-/** One generated unit: a function with a time loop, two offloaded stencil nests and host code. */
-function unit(k) {
-  return `
-void step_${k}(float *restrict u, float *restrict v, const float *restrict c, int nx, int ny, int steps) {
-  for (int t = 0; t < steps; t++) {
-#pragma acc parallel loop collapse(2) copyin(u[0:nx*ny], c[0:nx*ny]) copy(v[0:nx*ny])
-    for (int j = 1; j < ny - 1; j++)
-      for (int i = 1; i < nx - 1; i++)
-        v[j * nx + i] = 2.0f * u[j * nx + i] - v[j * nx + i]
-                      + c[j * nx + i] * (u[j * nx + i - 1] + u[j * nx + i + 1] + u[(j - 1) * nx + i] + u[(j + 1) * nx + i] - 4.0f * u[j * nx + i]);
-#pragma acc parallel loop collapse(2) copy(u[0:nx*ny], v[0:nx*ny])
-    for (int j = 0; j < ny; j++)
-      for (int i = 0; i < nx; i++) {
-        const float tmp = u[j * nx + i];
-        u[j * nx + i] = v[j * nx + i];
-        v[j * nx + i] = tmp;
-      }
-    if (t % 10 == 0) {
-      u[(ny / 2) * nx + nx / 2] += 1.0f;
-    }
-  }
-}
-`;
-}
-
-let text = '#define NX 512\n#define NY 512\n';
-let k = 0;
-while (text.split('\n').length < target) text += unit(k++);
+// The same generated units as the editor load test and benchmark (tests/e2e/generate.ts).
+const { generateSource } = await loadTs('tests/e2e/generate.ts');
+const text = generateSource(target);
+const k = text.split('\n').filter((l) => l.startsWith('void step_')).length;
 const lines = text.split('\n').length;
 
 const grammars = await api.loadGrammars();

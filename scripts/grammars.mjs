@@ -5,11 +5,10 @@
 //
 // Usage: node scripts/grammars.mjs            (writes grammars/*.tmLanguage.json)
 //        import { grammarDocuments } from ...  (tests compare the committed files with these)
-import { build } from 'esbuild';
 import { writeFileSync } from 'node:fs';
-import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { loadTs } from './load-ts.mjs';
 
 const SUFFIX = 'offload-ledger';
 export const GRAMMAR_FILES = {
@@ -22,19 +21,9 @@ export const GRAMMAR_FILES = {
   },
 };
 
-/** Loads KNOWN_DIRECTIVES by bundling the reader in memory (the sources are TypeScript). */
-async function knownDirectives(root) {
-  const out = await build({
-    entryPoints: [join(root, 'server/src/core/directives/reader.ts')],
-    bundle: true,
-    write: false,
-    format: 'cjs',
-    platform: 'node',
-    logLevel: 'silent',
-  });
-  const mod = { exports: {} };
-  new Function('module', 'exports', 'require', out.outputFiles[0].text)(mod, mod.exports, createRequire(import.meta.url));
-  return mod.exports.KNOWN_DIRECTIVES;
+/** KNOWN_DIRECTIVES of the directive reader (TypeScript, bundled in memory). */
+async function knownDirectives() {
+  return (await loadTs('server/src/core/directives/reader.ts')).KNOWN_DIRECTIVES;
 }
 
 const escape = (w) => w.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
@@ -169,7 +158,7 @@ export function fortranGrammar(known) {
 }
 
 export async function grammarDocuments(root) {
-  const known = await knownDirectives(root);
+  const known = await knownDirectives();
   return [
     { ...GRAMMAR_FILES.c, grammar: cGrammar(known) },
     { ...GRAMMAR_FILES.fortran, grammar: fortranGrammar(known) },

@@ -3,24 +3,13 @@
 // package.json and the schema differ, and names this script as the fix.
 //
 // Usage: node scripts/manifest.mjs [--check]
-import { build } from 'esbuild';
 import { readFileSync, writeFileSync } from 'node:fs';
-import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { loadTs } from './load-ts.mjs';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
-const out = await build({
-  entryPoints: [join(root, 'server/src/settings/schema.ts')],
-  bundle: true,
-  write: false,
-  format: 'cjs',
-  platform: 'node',
-  logLevel: 'silent',
-});
-const mod = { exports: {} };
-new Function('module', 'exports', 'require', out.outputFiles[0].text)(mod, mod.exports, createRequire(import.meta.url));
-const configuration = mod.exports.contributedConfiguration();
+const configuration = (await loadTs('server/src/settings/schema.ts')).contributedConfiguration();
 
 const path = join(root, 'package.json');
 const pkg = JSON.parse(readFileSync(path, 'utf8'));
