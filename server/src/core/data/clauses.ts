@@ -40,7 +40,7 @@ export function dataEntries(d: Directive): DataEntry[] {
       action = mods.includes('present') ? 'present' : ompMapActions[(c.mapType ?? 'tofrom').toLowerCase()];
     } else if (c.canonical === 'is_device_ptr' || c.canonical === 'has_device_addr') {
       action = 'deviceptr';
-    } else if (d.construct === 'declare target' && (c.canonical === 'to' || c.canonical === 'enter' || c.canonical === 'link')) {
+    } else if (d.construct === 'declare target' && ['to', 'enter', 'link', 'declare target'].includes(c.canonical)) {
       action = 'create';
     }
     if (!action) continue;

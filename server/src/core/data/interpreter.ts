@@ -152,7 +152,36 @@ export class DataInterpreter {
     const frame: Frame = { proc, rename: new Map(), bindings: this.bindingsOf(proc), via: [], depth: 0 };
     this.afterLoop = undefined;
     this.root = frame;
-    this.exec(proc.body, { frame, multiplier: S.num(1), everySteps: 1, hostRanges: new Map(), hostLoops: [], recording: false, ancestors: [] });
+    const ctx: Ctx = { frame, multiplier: S.num(1), everySteps: 1, hostRanges: new Map(), hostLoops: [], recording: false, ancestors: [] };
+    this.fileDeclarations(ctx);
+    this.exec(proc.body, ctx);
+  }
+
+  /**
+   * Declarations at file scope make global data present for the whole program: OpenACC
+   * `declare` (§2.13) and OpenMP `declare target` with a list, or the globals declared between
+   * `declare target` and `end declare target` (static device copies, no transfer).
+   */
+  private fileDeclarations(ctx: Ctx): void {
+    const inProcedure = (r: Range): boolean => this.model.procedures.some((p) => within(r, p.range));
+    let open: Directive | undefined;
+    for (const d of this.model.directives) {
+      if (inProcedure(d.range)) continue;
+      const ompDeclare = d.family === 'openmp' && (d.construct === 'declare target' || d.construct === 'begin declare target');
+      if (d.family === 'openacc' && d.construct === 'declare') this.enterClauses(d, ctx, 'enter', true);
+      else if (ompDeclare && !d.isEnd && d.clauses.length > 0) this.enterClauses(d, ctx, 'enter', true);
+      else if (ompDeclare && !d.isEnd) open = d;
+      else if (ompDeclare && d.isEnd && open) {
+        const from = open.range.end;
+        const to = d.range.start;
+        for (const g of this.model.globals) {
+          if (!g.isArray || !within(g.range, { start: from, end: to })) continue;
+          this.env.allocate(g.name);
+          this.env.state(g.name).structured++;
+        }
+        open = undefined;
+      }
+    }
   }
 
   // ---- names and sizes -------------------------------------------------------------------
@@ -669,4 +698,9 @@ function describe(newer: Region, touched: Region, info: ArrayInfo): string {
   const n = regionSize(covers(newer, touched) ? touched : newer.filter((b) => overlaps([b], touched)));
   if (n === 1) return 'that element';
   return `${n.toLocaleString('en-US')} of the elements read here (${(n * info.elementBytes).toLocaleString('en-US')} bytes)`;
+}
+
+function within(inner: Range, outer: Range): boolean {
+  const le = (a: Range['start'], b: Range['start']): boolean => a.line < b.line || (a.line === b.line && a.col <= b.col);
+  return le(outer.start, inner.start) && le(inner.end, outer.end);
 }
