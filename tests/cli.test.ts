@@ -67,6 +67,8 @@ describe('offload-ledger check', () => {
     ['unknown format', ['check', '--format', 'xml', 'examples'], /unknown format/],
     ['bad binding', ['check', '--bind', 'n', 'examples'], /NAME=INTEGER/],
     ['not a source', ['check', join(tmp, 'notes.txt')], /not a C, C\+\+ or Fortran source/],
+    ['calibrate without a compiler', ['calibrate', '--cc', 'no-such-compiler'], /C compiler `no-such-compiler` was not found/],
+    ['a bad pool', ['plan', '--pool', 'lots', 'examples'], /--pool expects host=H,device=D/],
   ];
   writeFileSync(join(tmp, 'notes.txt'), 'hello');
   for (const [name, args, message] of usage) {

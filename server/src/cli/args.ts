@@ -23,7 +23,8 @@ export interface PlanArgs extends CommonArgs {
 
 export interface CalibrateArgs {
   command: 'calibrate';
-  cc: string;
+  /** The C compiler; undefined means the first of gcc, cc, clang on the PATH. */
+  cc?: string;
   out?: string;
   maxThreads?: number;
   arrayMiB?: number;
@@ -50,7 +51,7 @@ options:
   --machines FILE          machines file (default ./offload-ledger.machines.json when present)
   --runs N                 plan: number of independent runs
   --pool host=H,device=D   plan: a mixed pool of H host nodes and D device nodes
-  --cc PATH                calibrate: C compiler with OpenMP (default gcc; --compiler is the same)
+  --cc PATH                calibrate: C compiler with OpenMP (default: gcc, cc or clang from the PATH; --compiler is the same)
   --out FILE               calibrate: machines file to write the measured profile into
   --max-threads N          calibrate: measure 1..N threads (default: all cores)
   --help, --version
@@ -101,7 +102,7 @@ export function parseCli(argv: string[]): CliArgs {
   if (command === 'serve') return { command: 'serve' };
   if (command === 'calibrate') {
     return {
-      command: 'calibrate', cc: values.cc ?? values.compiler ?? 'gcc', out: values.out, format: format === 'json' ? 'json' : 'text',
+      command: 'calibrate', cc: values.cc ?? values.compiler, out: values.out, format: format === 'json' ? 'json' : 'text',
       maxThreads: positiveInt(values['max-threads'], '--max-threads'), arrayMiB: positiveInt(values['array-mib'], '--array-mib'),
     };
   }

@@ -56,17 +56,25 @@ function cacheBytes(): { l2: number; l3: number } {
   return { l2: get('LEVEL2_CACHE_SIZE'), l3: get('LEVEL3_CACHE_SIZE') };
 }
 
+/** The compiler to use: the one given, else the first of gcc, cc and clang that answers. */
+function findCompiler(given: string | undefined): string {
+  const candidates = given ? [given] : ['gcc', 'cc', 'clang'];
+  const found = candidates.find((c) => spawnSync(c, ['--version']).status === 0);
+  if (!found) throw new InputError(given ? `calibrate: the C compiler \`${given}\` was not found (give another with --cc)` : 'calibrate: no C compiler found (gcc, cc or clang); give one with --cc');
+  return found;
+}
+
 export function measure(args: CalibrateArgs, progress: (s: string) => void): { host: HostProfile; measurements: Measurement[] } {
-  if (spawnSync(args.cc, ['--version']).status !== 0) throw new InputError(`calibrate: the C compiler \`${args.cc}\` was not found (give one with --cc)`);
+  const cc = findCompiler(args.cc);
   const dir = mkdtempSync(join(tmpdir(), 'ol-calibrate-'));
   try {
     const src = join(dir, 'probe.c');
     const exe = join(dir, 'probe');
     writeFileSync(src, PROBE);
     try {
-      execFileSync(args.cc, ['-O2', '-fopenmp', src, '-o', exe], { stdio: 'pipe' });
+      execFileSync(cc, ['-O2', '-fopenmp', src, '-o', exe], { stdio: 'pipe' });
     } catch (e) {
-      throw new InputError(`calibrate: \`${args.cc} -O2 -fopenmp\` failed; does it support OpenMP? (${String((e as { stderr?: Buffer }).stderr ?? e).split('\n')[0]})`);
+      throw new InputError(`calibrate: \`${cc} -O2 -fopenmp\` failed; does it support OpenMP? (${String((e as { stderr?: Buffer }).stderr ?? e).split('\n')[0]})`);
     }
     const cores = availableParallelism();
     const { l2, l3 } = cacheBytes();
@@ -98,7 +106,7 @@ export function measure(args: CalibrateArgs, progress: (s: string) => void): { h
       cacheBytesPerCore: l2 + (l3 > 0 ? l3 / cores : 0) || reference.cacheBytesPerCore,
       memoryBytes: totalmem(),
       sources: [
-        `triad probe compiled with ${args.cc} -O2 -fopenmp, best of 8 sweeps per thread count, 1..${maxThreads} threads; bandwidths count 32 bytes per iteration (write-allocate included)`,
+        `triad probe compiled with ${cc} -O2 -fopenmp, best of 8 sweeps per thread count, 1..${maxThreads} threads; bandwidths count 32 bytes per iteration (write-allocate included)`,
         `peak flops per core from the ${reference.name} class (not measured)`,
         'cache per core from getconf LEVEL2_CACHE_SIZE + LEVEL3_CACHE_SIZE / cores',
       ],
