@@ -17,8 +17,15 @@ function cSources(dir: string): string[] {
 
 const corpus = [...cSources(join(ROOT, 'examples')), ...cSources(join(ROOT, 'tests', 'fixtures'))].map((p) => readFileSync(p, 'utf8'));
 
-async function survives(text: string): Promise<void> {
-  const a = await analyzeText(text, 'fuzz.c');
+function fortranSources(dir: string): string[] {
+  return readdirSync(dir, { withFileTypes: true }).flatMap((e) =>
+    e.isDirectory() ? fortranSources(join(dir, e.name)) : /\.(f90|F90|f)$/.test(e.name) ? [join(dir, e.name)] : [],
+  );
+}
+const fortran = [...fortranSources(join(ROOT, 'examples')), ...fortranSources(join(ROOT, 'tests', 'fixtures'))].map((p) => ({ path: p, text: readFileSync(p, 'utf8') }));
+
+async function survives(text: string, path = 'fuzz.c'): Promise<void> {
+  const a = await analyzeText(text, path);
   expect(a.internalErrors).toEqual([]);
   expect(Array.isArray(a.findings)).toBe(true);
   for (const f of a.findings) {
@@ -79,6 +86,31 @@ describe('the C front end and analyses survive damaged input', () => {
     await fc.assert(
       fc.asyncProperty(fc.uint8Array({ maxLength: 300 }), async (bytes) => survives(Buffer.from(bytes).toString('latin1'))),
       { numRuns: 30 },
+    );
+  });
+});
+
+describe('the whole pipeline survives damaged Fortran', () => {
+  it('has a Fortran corpus', () => expect(fortran.length).toBeGreaterThanOrEqual(10));
+
+  it('truncated and mutated Fortran files give findings, not internal errors', async () => {
+    const alphabet = fc.constantFrom('(', ')', '&', '!$acc ', '!$omp end ', '\n', ':', ',', 'do ', 'end do\n', 'call ', '=', ' ');
+    await fc.assert(
+      fc.asyncProperty(
+        fc.integer({ min: 0, max: fortran.length - 1 }),
+        fc.double({ min: 0, max: 1, noNaN: true }),
+        fc.array(fc.tuple(fc.nat(), fc.nat({ max: 5 }), alphabet), { maxLength: 15 }),
+        async (k, cut, edits) => {
+          const { path, text } = fortran[k];
+          let t = text.slice(0, Math.floor(text.length * (0.5 + cut / 2)));
+          for (const [pos, del, ins] of edits) {
+            const p = pos % (t.length + 1);
+            t = t.slice(0, p) + ins + t.slice(p + del);
+          }
+          await survives(t, path);
+        },
+      ),
+      { numRuns: 60 },
     );
   });
 });
