@@ -132,3 +132,17 @@ describe('offload-ledger plan and machine profiles', () => {
     expect(s(core)).toBeGreaterThan(10 * s(node));
   });
 });
+
+describe('offload-ledger check --format html', () => {
+  it('writes the planning report as one self-contained page', () => {
+    const r = runCli(['check', '--format', 'html', 'examples/hall/hall_naive_acc.c']);
+    expect(r.status).toBe(0);
+    expect(r.stdout).toMatch(/^<!DOCTYPE html>/);
+    expect(r.stdout).toContain('Time loop at line 116');
+    expect(r.stdout).toContain('pcie4-hbm2e');
+    expect((r.stdout.match(/<svg/g) ?? []).length).toBeGreaterThanOrEqual(2);
+    // Self-contained: no scripts and nothing fetched (a CSP with default-src 'none').
+    expect(r.stdout).not.toMatch(/<script|https?:\/\//);
+    expect(r.stdout).toContain("default-src 'none'");
+  });
+});

@@ -8,7 +8,7 @@ import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { renderPlanning, barChart, bytes } from '../client/src/planning/render';
+import { renderPlanning, barChart, bytes } from '../server/src/planning/render';
 import { FORTRAN_EXTENSIONS, documentSelector } from '../client/src/selector';
 import { languageOfPath } from '../server/src/core/language';
 import { ClientCommands } from '../server/src/lsp/protocol';

@@ -1,12 +1,12 @@
 /**
  * `Offload Ledger: Open Planning View`: a webview with the ledger and estimates of the analysed
- * documents, rendered as HTML and hand-made SVG by planning/render.ts (no scripts, no network).
+ * documents, rendered as HTML and hand-made SVG by server/src/planning/render.ts (no scripts, no network).
  * It refreshes when the server reports a finished analysis.
  */
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
 import { PlanningDataRequest } from '../../../server/src/lsp/protocol';
-import { renderPlanning } from '../planning/render';
+import { renderPlanning } from '../../../server/src/planning/render';
 
 export class PlanningView implements vscode.Disposable {
   private panel: vscode.WebviewPanel | undefined;

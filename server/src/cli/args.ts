@@ -2,7 +2,7 @@
 import { parseArgs } from 'node:util';
 
 export interface CommonArgs {
-  format: 'text' | 'json' | 'sarif';
+  format: 'text' | 'json' | 'sarif' | 'html';
   bindings: Map<string, number>;
   profile?: string;
   baseline: 'node' | 'core';
@@ -44,7 +44,8 @@ commands:
   serve --stdio            run the language server (also --node-ipc, --socket=N)
 
 options:
-  --format text|json|sarif output format (default text; json follows the published report schema; sarif is SARIF 2.1.0)
+  --format text|json|sarif|html  output (default text; json follows the published report schema; sarif is
+                           SARIF 2.1.0; html is the planning report with charts, one self-contained page)
   --bind NAME=VALUE        give a size symbol a value, e.g. --bind NX=600 (repeatable)
   --profile NAME           machine profile for the estimates (built-in presets or offload-ledger.machines.json)
   --baseline node|core     host baseline of the speedups: the whole node (default) or one core
@@ -98,7 +99,7 @@ export function parseCli(argv: string[]): CliArgs {
   const [command, ...paths] = positionals;
   if (!command) throw new UsageError('missing command; try `offload-ledger check <files>`');
   const format = values.format ?? 'text';
-  if (format !== 'text' && format !== 'json' && format !== 'sarif') throw new UsageError(`unknown format \`${format}\`; use text, json or sarif`);
+  if (!['text', 'json', 'sarif', 'html'].includes(format)) throw new UsageError(`unknown format \`${format}\`; use text, json, sarif or html`);
   if (command === 'serve') return { command: 'serve' };
   if (command === 'calibrate') {
     return {
@@ -116,7 +117,7 @@ export function parseCli(argv: string[]): CliArgs {
   }
   const baseline = values.baseline ?? 'node';
   if (baseline !== 'node' && baseline !== 'core') throw new UsageError(`unknown baseline \`${baseline}\`; use node or core`);
-  const common: CommonArgs = { format, bindings, profile: values.profile, baseline, machines: values.machines };
+  const common: CommonArgs = { format: format as CommonArgs['format'], bindings, profile: values.profile, baseline, machines: values.machines };
   if (command === 'check') return { command, paths, ...common };
   const runs = positiveInt(values.runs, '--runs') ?? 1;
   let pool: PlanArgs['pool'];

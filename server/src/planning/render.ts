@@ -5,7 +5,7 @@
  * region. Pure (no VS Code import) so tests render it directly; the page runs no script and
  * loads nothing (its CSP allows inline styles only).
  */
-import type { PlanningData, PlanningFile, ReportLoop, ReportTimeLoop } from '../../../server/src/lsp/protocol';
+import type { PlanningData, PlanningFile, ReportLoop, ReportTimeLoop } from '../lsp/protocol';
 
 export interface RenderOptions {
   cspSource: string;
