@@ -163,10 +163,8 @@ export class DataInterpreter {
    * `declare target` and `end declare target` (static device copies, no transfer).
    */
   private fileDeclarations(ctx: Ctx): void {
-    const inProcedure = (r: Range): boolean => this.model.procedures.some((p) => within(r, p.range));
     let open: Directive | undefined;
-    for (const d of this.model.directives) {
-      if (inProcedure(d.range)) continue;
+    for (const d of fileLevelDeclarations(this.model)) {
       const ompDeclare = d.family === 'openmp' && (d.construct === 'declare target' || d.construct === 'begin declare target');
       if (d.family === 'openacc' && d.construct === 'declare') this.enterClauses(d, ctx, 'enter', true);
       else if (ompDeclare && !d.isEnd && d.clauses.length > 0) this.enterClauses(d, ctx, 'enter', true);
@@ -698,6 +696,21 @@ function describe(newer: Region, touched: Region, info: ArrayInfo): string {
   const n = regionSize(covers(newer, touched) ? touched : newer.filter((b) => overlaps([b], touched)));
   if (n === 1) return 'that element';
   return `${n.toLocaleString('en-US')} of the elements read here (${(n * info.elementBytes).toLocaleString('en-US')} bytes)`;
+}
+
+/**
+ * Declare directives outside every procedure, found once per model: each procedure's run needs
+ * them, and testing every directive against every procedure per run made large files quadratic.
+ */
+const declarationsOf = new WeakMap<ProgramModel, Directive[]>();
+function fileLevelDeclarations(model: ProgramModel): Directive[] {
+  let found = declarationsOf.get(model);
+  if (!found) {
+    const candidates = model.directives.filter((d) => d.construct === 'declare' || d.construct.includes('declare target'));
+    found = candidates.filter((d) => !model.procedures.some((p) => within(d.range, p.range)));
+    declarationsOf.set(model, found);
+  }
+  return found;
 }
 
 function within(inner: Range, outer: Range): boolean {
