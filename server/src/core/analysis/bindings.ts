@@ -6,6 +6,7 @@
 import * as S from '../symbolic';
 import type { Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { toSymbolic, walkStatements } from '../model/values';
+import { calleesOf } from '../model/callees';
 
 function valuesOf(s: Stmt): VExpr[] {
   switch (s.kind) {
@@ -49,13 +50,14 @@ export function procedureBindings(model: ProgramModel, proc: Procedure | undefin
  * a single number would be wrong for some of the calls.
  */
 export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
-  const byName = new Map(model.procedures.map((p) => [p.name, p]));
+  const callees = calleesOf(model);
   const seen = new Map<string, (S.Expr | undefined)[][]>();
   for (const caller of model.procedures) {
     const local: BindingMap = new Map([...model.bindings, ...caller.bindings]);
-    const record = (name: string, args: VExpr[]): void => {
-      const callee = byName.get(name);
+    const record = (called: string, args: VExpr[]): void => {
+      const callee = callees.resolve(called);
       if (!callee || callee === caller) return;
+      const name = callee.name;
       const values = args.map((a) => {
         const e = toSymbolic(a);
         return e ? S.substitute(e, local) : undefined;
@@ -72,7 +74,7 @@ export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
   }
   const out = new Map<string, BindingMap>();
   for (const [name, calls] of seen) {
-    const callee = byName.get(name)!;
+    const callee = model.procedures.find((p) => p.name === name)!;
     const b: BindingMap = new Map();
     callee.params.forEach((p, i) => {
       if (p.isArray) return;

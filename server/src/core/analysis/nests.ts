@@ -11,6 +11,7 @@ import type { Directive } from '../types';
 import type { LoopStmt, Procedure, ProgramModel, Stmt } from '../model/program';
 import { isDataConstruct, isLoopDirective, isOffloadCompute } from '../model/directives';
 import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
+import { calleesOf } from '../model/callees';
 
 export interface LoopNest {
   root: LoopStmt;
@@ -41,6 +42,8 @@ export interface NestScan {
 
 export function scanLoops(model: ProgramModel): NestScan {
   const withLoops = proceduresWithLoops(model);
+  const callees = calleesOf(model);
+  calleeName = (name) => callees.resolve(name)?.name ?? name;
   const out: NestScan = { nests: [], timeLoops: [] };
   for (const proc of model.procedures) {
     const visit = (stmts: Stmt[], offload: Directive | undefined, time: TimeLoop | undefined): void => {
@@ -88,6 +91,9 @@ export function directLoops(stmts: Stmt[]): LoopStmt[] {
   return out;
 }
 
+/** Resolves a call's name to its procedure's name, for the scan in progress. */
+let calleeName: (name: string) => string = (name) => name;
+
 function isTimeLoop(loop: LoopStmt, withLoops: Set<string>): boolean {
   if (loop.directives.some((d) => isLoopDirective(d) || isOffloadCompute(d))) return false;
   let offloadOrData = false;
@@ -95,7 +101,7 @@ function isTimeLoop(loop: LoopStmt, withLoops: Set<string>): boolean {
   walkStatements(loop.body, (s) => {
     if (s.directives.some((d) => isOffloadCompute(d) || isDataConstruct(d))) offloadOrData = true;
     if (s.kind === 'directive' && !s.directive.isEnd) offloadOrData = true;
-    if (s.kind === 'call' && withLoops.has(s.name)) calls++;
+    if (s.kind === 'call' && withLoops.has(calleeName(s.name))) calls++;
   });
   const nested = directLoops(loop.body).length;
   const works = offloadOrData || nested >= 2 || calls > 0 || (nested >= 1 && calls > 0);
@@ -133,11 +139,12 @@ function indexesNestedArrays(loop: LoopStmt): boolean {
 function proceduresWithLoops(model: ProgramModel): Set<string> {
   const out = new Set<string>();
   const calls = new Map<string, string[]>();
+  const resolve = calleesOf(model);
   for (const p of model.procedures) {
     const callees: string[] = [];
     walkStatements(p.body, (s) => {
       if (s.kind === 'loop') out.add(p.name);
-      if (s.kind === 'call') callees.push(s.name);
+      if (s.kind === 'call') callees.push(resolve.resolve(s.name)?.name ?? s.name);
     });
     calls.set(p.name, callees);
   }

@@ -12,6 +12,7 @@ import type { Directive, Finding, Range } from '../types';
 import { type ArrayInfo, arrayInfo } from './arrays';
 import { type DataEntry, dataEntries, defaultMode, motionEntries, privateNames } from './clauses';
 import { periodicGuard } from './guards';
+import { calleesOf } from '../model/callees';
 import { type Region, covers, intersect, overlaps, regionSize, subtract, union, wholeBox } from './regions';
 import { regionSectionText, touchSectionText } from './slices';
 import { type LoopRanges, type Section, accessRegion, clauseSection, wholeBytes } from './sections';
@@ -312,7 +313,7 @@ export class DataInterpreter {
     let found = false;
     walkStatements(loop.body, (s) => {
       if (s.directives.some((d) => isOffloadCompute(d) || isDataConstruct(d)) || s.kind === 'directive') found = true;
-      if (s.kind === 'call' && this.procs.has(s.name)) found = true;
+      if (s.kind === 'call' && calleesOf(this.model).resolve(s.name)) found = true;
     });
     return found;
   }
@@ -357,7 +358,7 @@ export class DataInterpreter {
   private callsIn(v: VExpr, at: Range, ctx: Ctx): void {
     const visit = (e: VExpr): void => {
       if (e.kind === 'call') {
-        if (this.procs.has(e.name)) this.call(e.name, e.args, at, ctx);
+        if (calleesOf(this.model).resolve(e.name)) this.call(e.name, e.args, at, ctx);
         e.args.forEach(visit);
       } else if (e.kind === 'bin') { visit(e.left); visit(e.right); }
       else if (e.kind === 'unary' || e.kind === 'cast') visit(e.operand);
@@ -401,7 +402,7 @@ export class DataInterpreter {
   // ---- calls ---------------------------------------------------------------------------
 
   private call(name: string, args: VExpr[], at: Range, ctx: Ctx): void {
-    const callee = this.procs.get(name);
+    const callee = calleesOf(this.model).resolve(name);
     if (!callee || ctx.frame.depth >= MAX_CALL_DEPTH || callee === ctx.frame.proc) return;
     const rename = new Map<string, string>();
     const bindings = new Map(this.bindingsOf(callee));
@@ -666,6 +667,8 @@ function arrayArgument(e: VExpr): string | undefined {
     if (x.kind === 'cast' || (x.kind === 'unary' && x.op === '&')) x = x.operand;
     else if (x.kind === 'index') return x.access.array;
     else if (x.kind === 'bin' && (x.op === '+' || x.op === '-')) x = x.left;
+    // C++ containers hand out their storage: `u.data()`, `u->data()`.
+    else if (x.kind === 'call' && x.args.length === 0 && /(\.|->)data$/.test(x.name)) return x.name.replace(/(\.|->)data$/, '');
     else return undefined;
   }
 }

@@ -89,8 +89,10 @@ export function suggestDataRegion(
     const readFirst = run.needsHostValues.has(k) || !run.deviceWrites.has(k);
     const after = run.neededAfter.has(k) || escapes(k);
     const kind: Kind = readFirst ? (after ? 'copy' : 'copyin') : after ? (writesAll ? 'copyout' : 'copy') : 'create';
-    const section = info ? wholeSectionText(k, info, lang) : undefined;
-    if (!section) out.notes.push(`the size of \`${k}\` is unknown, so its clause needs a section written by hand`);
+    const container = info?.decl?.container;
+    const section = info && !container ? wholeSectionText(k, info, lang) : undefined;
+    if (container) out.notes.push(`\`${k}\` is a ${container}: data clauses cannot name it; take a pointer to its storage (\`auto *${k}_data = ${k}.data();\`) and put that in the region`);
+    else if (!section) out.notes.push(`the size of \`${k}\` is unknown, so its clause needs a section written by hand`);
     out.clauses.push({ array: k, clause: family === 'openacc' ? kind : ompWord[kind], section });
     byKind.set(kind, [...(byKind.get(kind) ?? []), section ?? k]);
   }

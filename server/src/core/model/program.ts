@@ -31,6 +31,8 @@ export interface Declaration {
   isPointer: boolean;
   isArray: boolean;
   isConst: boolean;
+  /** Set for a C++ container (`std::vector`): its data needs a raw pointer before a clause can name it. */
+  container?: string;
   scope: 'global' | 'local' | 'param';
   /** Integer value of a literal or constant initialiser, when there is one. */
   init?: Expr;

@@ -77,6 +77,7 @@ function readDeclarator(
     scope,
     range: rangeOf(node),
   };
+  if (isVector) decl.container = 'std::vector';
   if (dims.length > 0) decl.elementCount = S.mul(...dims);
   if (init) {
     const count = exprs.declaringName(name, type, () => allocationCount(init!, type, exprs));
