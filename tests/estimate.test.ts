@@ -66,6 +66,23 @@ describe('a loop whose per-step transfer exceeds its kernel time', () => {
   });
 });
 
+describe('host code left in the time loop (Amdahl)', () => {
+  it('runs on one core when no directive parallelises it, and can bound the step (hand-worked)', async () => {
+    const a = await analyzeText(fixture('host_in_loop.c'), 'host_in_loop.c', undefined, undefined, profile);
+    const e = a.timeLoops[0].estimate!;
+    const n = 1e7;
+    const hostLeft = (8 * n) / 14e9; // serial sum: 8 B per element at one core's 14 GB/s = 5.71 ms
+    const kernelOnHost = (16 * n) / 460e9; // the parallel loop on the node: 0.35 ms
+    const kernel = (16 * n) / 1.7e12; // 94 µs on the device
+    const transfer = 10e-6 + (8 * n) / (pcieX16Bandwidth(16) * 0.85); // update self(a): 3.0 ms
+    expect(e.hostLeftSeconds).toBeCloseTo(hostLeft, 12);
+    expect(e.hostSeconds).toBeCloseTo(kernelOnHost + hostLeft, 12);
+    expect(e.deviceSeconds).toBeCloseTo(kernel + 5e-6 + transfer + hostLeft, 12);
+    expect(e.bound).toBe('host');
+    expect(e.speedup!.expected).toBeCloseTo((kernelOnHost + hostLeft) / (kernel + 5e-6 + transfer + hostLeft), 9); // 0.69
+  });
+});
+
 describe('memory fit', () => {
   it('reports exceeds-device-memory and no runs per device when the resident arrays do not fit', async () => {
     const a = await analyzeText(fixture('too_big.c'), 'too_big.c', undefined, undefined, profile);
