@@ -2,7 +2,7 @@
  * `offload-ledger` command-line entry. Exit status: 0 when no finding has severity error,
  * 1 otherwise, 2 on usage or input errors (with a one-line message on stderr).
  */
-import { analyzeSource, type FileAnalysis } from '../core/analyze';
+import { analyzeSource, buildModel, type FileAnalysis } from '../core/analyze';
 import { relative, sep } from 'node:path';
 import { report } from '../core/report';
 import { sarifLog } from '../core/sarif';
@@ -57,7 +57,11 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   const profile = chooseProfile(readMachinesFile(args.machines), args.profile);
   const files = collectSources(args.paths).map(readSource);
   const grammars = await loadGrammars();
-  const analyses: FileAnalysis[] = files.map((f) => analyzeSource(f, grammars, { bindings: args.bindings, profile, baseline: args.baseline }));
+  // Every file's model first, so that a time loop calling a kernel in another file follows it.
+  const models = files.map((f) => buildModel(f, grammars));
+  const analyses: FileAnalysis[] = files.map((f, k) =>
+    analyzeSource({ ...f, model: models[k] }, grammars, { bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined }),
+  );
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);
   }

@@ -20,7 +20,7 @@ export function planFiles(analyses: FileAnalysis[], args: PlanArgs): PlanResult[
       const l = t.ledger;
       if (!l) continue;
       const base = { path: a.path, line: l.loop.keywordRange.start.line + 1, function: l.procedure.name };
-      const w = stepWork(l, a.nests);
+      const w = stepWork(l, a.externalNests.length > 0 ? [...a.nests, ...a.externalNests] : a.nests);
       const steps = l.steps.value;
       if (!w || steps === null) {
         out.push({ ...base, plan: null, reason: `sizes are unbound (${[...(l.steps.unbound ?? []), ...(l.perStep.toDevice.unbound ?? [])].join(', ') || 'a loop bound'}); bind them with --bind` });

@@ -8,6 +8,7 @@ import * as S from './symbolic';
 import type { ProgramModel } from './model/program';
 import { buildCModel } from './frontend/c';
 import { emptyModel } from './model/empty';
+import { withWorkspace } from './model/workspace';
 import { buildFortranModel } from './frontend/fortran';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
@@ -25,6 +26,8 @@ export interface AnalyzeInput {
   path: string;
   text: string;
   language: SourceLanguage;
+  /** The file's model when the caller built it already (to analyse a workspace without parsing twice). */
+  model?: ProgramModel;
 }
 
 export interface AnalyzeDeps {
@@ -45,6 +48,20 @@ export interface AnalyzeOptions {
   deviceMemoryBytes?: number;
   /** Internal: false when analysing the file with the suggested edits applied (no further what-if). */
   whatIf?: boolean;
+  /** Models of the other files of the workspace: calls into them are followed. */
+  workspace?: readonly ProgramModel[];
+}
+
+/** The program model of one file (what `analyzeSource` starts from); never throws. */
+export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps): ProgramModel {
+  try {
+    if (input.language === 'fortran') return buildFortranModel(input.text, input.path);
+    const parser = deps.parserFor(input.language);
+    if (parser) return buildCModel(parser, input.text, input.path, input.language);
+  } catch {
+    // The front ends are written not to throw; an empty model is what remains if one did.
+  }
+  return emptyModel(input.path, input.language);
 }
 
 /** A core's share of a server CPU's L2 plus L3 (from memory); used by scripts without a profile. */
@@ -75,6 +92,8 @@ export interface FileAnalysis {
   model: ProgramModel;
   directiveFamilies: DirectiveFamily[];
   nests: NestReport[];
+  /** Nests of other workspace files that this file's time loops run (costed here, reported there). */
+  externalNests: NestReport[];
   timeLoops: TimeLoopReport[];
   findings: Finding[];
   internalErrors: string[];
@@ -90,56 +109,58 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     model: emptyModel(input.path, input.language),
     directiveFamilies: [],
     nests: [],
+    externalNests: [],
     timeLoops: [],
     findings: [],
     internalErrors: [],
   };
   try {
-    if (input.language === 'fortran') {
-      result.model = buildFortranModel(input.text, input.path);
-    } else {
-      const parser = deps.parserFor(input.language);
-      if (parser) result.model = buildCModel(parser, input.text, input.path, input.language);
-    }
+    result.model = input.model ?? buildModel(input, deps);
+    // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
+    const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;
     result.findings.push(...result.model.findings);
     result.directiveFamilies = [...new Set(result.model.directives.map((d) => d.family))].sort();
     const user = options.bindings ?? new Map<string, number>();
-    const callSite = callSiteBindings(result.model);
+    const callSite = callSiteBindings(model);
     const bindingsOf = new Map<string, BindingMap>();
     const bind = (nest: { procedure: { name: string } }): BindingMap => {
       // Bindings are per procedure and built once; the ledgers ask for them many times.
       const name = nest.procedure.name;
       let b = bindingsOf.get(name);
       if (!b) {
-        b = procedureBindings(result.model, result.model.procedures.find((p) => p.name === name), user, callSite);
+        b = procedureBindings(model, model.procedures.find((p) => p.name === name), user, callSite);
         bindingsOf.set(name, b);
       }
       return b;
     };
-    const scan = scanLoops(result.model);
+    const scan = scanLoops(model);
+    // Nests of other files are costed too (a time loop here may run them) but reported there.
+    const external = result.externalNests;
     for (const nest of scan.nests) {
       const it = nestIterations(nest);
       const iterations = quantity(it.expr, bind(nest), it.display);
-      const cost = nestCost(nest, result.model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? profile.host.cacheBytesPerCore });
+      const cost = nestCost(nest, model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? profile.host.cacheBytesPerCore });
       const report: NestReport = { nest, iterations, approximate: it.triangular, cost };
       report.estimate = nestEstimate(iterations.value, cost, profile, baseline, isParallelNest(report));
-      result.nests.push(report);
+      (nest.procedure.origin ? external : result.nests).push(report);
     }
-    result.findings.push(...raceFindings(result.model, scan.nests, (n) => bind(n)));
+    result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n)));
+    const ownTimeLoops = scan.timeLoops.filter((t) => !t.procedure.origin);
+    const allNests = external.length > 0 ? [...result.nests, ...external] : result.nests;
     const strides = new Map<string, S.Expr[][]>();
-    for (const r of result.nests) {
+    for (const r of allNests) {
       for (const f of r.cost.footprints) strides.set(f.array, [...(strides.get(f.array) ?? []), f.strides]);
     }
-    const data = dataLedger(result.model, input.text, scan.timeLoops, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? [], {
+    const data = dataLedger(model, input.text, ownTimeLoops, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? [], {
       deviceMemoryBytes: options.deviceMemoryBytes ?? profile.device.memoryBytes,
     });
     const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
     result.findings.push(...data.findings);
-    for (const tl of scan.timeLoops) {
+    for (const tl of ownTimeLoops) {
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
       const ledger = data.ledgers.find((l) => l.loop === tl.loop);
       const k = ledger ? data.ledgers.indexOf(ledger) : -1;
-      const estimate = ledger ? stepEstimate(ledger, result.nests, profile, baseline, fixed[k]) : undefined;
+      const estimate = ledger ? stepEstimate(ledger, allNests, profile, baseline, fixed[k]) : undefined;
       result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate });
     }
     result.findings.push(...unknownExtentFindings(result));
@@ -158,14 +179,14 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
 function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions, ledgers: TimeLoopLedger[]): (StepWork | null)[] {
   const edits = ledgers.flatMap((l) => l.dataRegion?.edits ?? []);
   if (edits.length === 0) return ledgers.map(() => null);
-  const after = analyzeSource({ ...input, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false });
+  const after = analyzeSource({ ...input, model: undefined, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false });
   const afterLedgers = after.timeLoops.map((t) => t.ledger).filter((l): l is TimeLoopLedger => !!l);
   return ledgers.map((l, k) => {
     if (!l.dataRegion || l.dataRegion.edits.length === 0) return null;
     const same = afterLedgers.filter((a) => a.procedure.name === l.procedure.name);
     const mine = ledgers.filter((x) => x.procedure.name === l.procedure.name).indexOf(ledgers[k]);
     const match = same[mine];
-    return match ? stepWork(match, after.nests) : null;
+    return match ? stepWork(match, [...after.nests, ...after.externalNests]) : null;
   });
 }
 

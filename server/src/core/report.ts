@@ -62,6 +62,7 @@ function timeLoopJson(l: TimeLoopLedger): Record<string, unknown> {
     once: { toDevice: jsonQuantity(l.once.toDevice), toHost: jsonQuantity(l.once.toHost) },
     transfers: l.transfers.map((t) => ({
       line: t.range.start.line + 1,
+      ...(t.origin ? { file: t.origin } : {}),
       ...(t.via.length > 0 ? { via: t.via.map((r) => r.start.line + 1) } : {}),
       array: t.array,
       direction: t.direction,

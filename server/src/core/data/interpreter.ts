@@ -35,6 +35,8 @@ export interface TransferRecord {
   whole: boolean;
   /** The variable in the clause that causes it, when there is one (where findings point). */
   at?: Range;
+  /** The file of the directive when it is in another file of the workspace. */
+  origin?: string;
 }
 
 /** A host access inside the time loop to an array the device also uses. */
@@ -383,7 +385,7 @@ export class DataInterpreter {
       if (!st.present) continue;
       if (a.isRead && overlaps(st.deviceNewer, region)) {
         const f = this.finding('stale-on-host', a.range, key,
-          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; add \`update self\` (OpenACC) / \`target update from\` (OpenMP) for that slice just before this line.`);
+          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; add \`update self\` (OpenACC) / \`target update from\` (OpenMP) for that slice just before this line.`, ctx.frame);
         if (f) {
           const top = ctx.frame.depth === 0;
           const touch: HostTouch = { key, kind: 'read', access: a, region, anchor: s, ancestors: [], loops: ctx.hostLoops, bindings: ctx.frame.bindings, rename: ctx.frame.rename };
@@ -468,7 +470,7 @@ export class DataInterpreter {
       if (st.present || mode === 'present' || mode === 'none') continue;
       if (d.family === 'openmp' && info.decl?.isPointer) {
         this.finding('stale-on-device', d.range, key,
-          `\`${local}\` is a pointer that no map clause names and that is not present on the device: OpenMP maps it as a zero-length array section (5.2 §5.8.1), so the device would dereference an address with no data behind it; map it here or in a \`target data\` region.`);
+          `\`${local}\` is a pointer that no map clause names and that is not present on the device: OpenMP maps it as a zero-length array section (5.2 §5.8.1), so the device would dereference an address with no data behind it; map it here or in a \`target data\` region.`, ctx.frame);
         continue;
       }
       const section: Section = { bytes: wholeBytes(info), region: [wholeBox(info.shape)], whole: true };
@@ -487,7 +489,7 @@ export class DataInterpreter {
       if (st.present && overlaps(st.hostNewer, region)) {
         const info = this.info(key, ctx.frame, localName(key, ctx.frame));
         const f = this.finding('stale-on-device', d.range, key,
-          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; add \`update device\` (OpenACC) / \`target update to\` (OpenMP) for that slice after the host write.`);
+          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; add \`update device\` (OpenACC) / \`target update to\` (OpenMP) for that slice after the host write.`, ctx.frame);
         if (f) {
           const top = ctx.frame.depth === 0;
           const section = regionSectionText(intersect(st.hostNewer, region), key, info, this.model.language);
@@ -544,7 +546,7 @@ export class DataInterpreter {
       const moves = e.action === 'copy' || e.action === 'copyin';
       if (wasPresent && (e.action === 'copy' || e.action === 'copyin' || e.action === 'copyout') && !e.always) {
         const f = this.finding('already-present', e.ref.range, key,
-          `\`${e.ref.text}\` is already present on the device here (an enclosing data region or enter data made it present), so this \`${e.clause.name}\` moves nothing: data clauses act only on data that is not yet present (OpenACC 3.3 §2.7, OpenMP reference counts).`);
+          `\`${e.ref.text}\` is already present on the device here (an enclosing data region or enter data made it present), so this \`${e.clause.name}\` moves nothing: data clauses act only on data that is not yet present (OpenACC 3.3 §2.7, OpenMP reference counts).`, ctx.frame);
         // Saying `present` states what happens and fails loudly if the region is ever removed.
         const allPresent = (e.clause.vars ?? []).every((v) => this.env.state(this.key(v.name, ctx.frame)).present);
         if (f && d.family === 'openacc' && allPresent && e.clause.args !== undefined) {
@@ -620,7 +622,7 @@ export class DataInterpreter {
   private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean, at?: Range): void {
     const rec: TransferRecord = {
       range, array, direction, bytes: S.mul(bytes, ctx.multiplier), everySteps: ctx.everySteps, cause,
-      via: ctx.frame.via, allocation, whole, at,
+      via: ctx.frame.via, allocation, whole, at, origin: ctx.frame.proc.origin,
     };
     if (ctx.run) {
       if (ctx.recording) ctx.run.transfers.push(rec);
@@ -642,13 +644,21 @@ export class DataInterpreter {
     if (run.residentPeak !== null) run.residentPeak = total === null ? null : Math.max(run.residentPeak, total);
   }
 
-  private finding(code: Finding['code'], range: Range, array: string, message: string): Finding | undefined {
-    const id = `${code}:${range.start.line}:${range.start.col}:${array}`;
+  /**
+   * Records a finding once. A finding inside a procedure of another file is placed at the call
+   * in this file that reaches it (its own lines belong to that other file), and then carries no
+   * quick fix: the fix would edit the other file.
+   */
+  private finding(code: Finding['code'], range: Range, array: string, message: string, frame?: Frame): Finding | undefined {
+    const origin = frame?.proc.origin;
+    const at = origin && frame.via[0] ? frame.via[0] : range;
+    const text = origin ? `In ${origin}, line ${range.start.line + 1} (reached from this call): ${message}` : message;
+    const id = `${code}:${at.start.line}:${at.start.col}:${array}:${origin ?? ''}:${range.start.line}`;
     if (this.seenFindings.has(id)) return undefined;
     this.seenFindings.add(id);
-    const f: Finding = { code, severity: code.startsWith('stale') ? 'error' : 'info', range, message, array };
+    const f: Finding = { code, severity: code.startsWith('stale') ? 'error' : 'info', range: at, message: text, array };
     this.findings.push(f);
-    return f;
+    return origin ? undefined : f;
   }
 }
 

@@ -19,6 +19,8 @@ import { touchSectionText } from './slices';
 
 export interface TransferReport {
   range: Range;
+  /** The file of the directive when it is in another file of the workspace. */
+  origin?: string;
   /** The clause variable that causes the transfer, when there is one. */
   at?: Range;
   via: Range[];
@@ -70,7 +72,7 @@ export function dataLedger(
     for (const run of interp.runs) {
       const steps = quantity(run.loop.tripCount ?? S.sym(`trips_L${run.loop.keywordRange.start.line + 1}`), bindings);
       const transfers = run.transfers.map((t) => ({
-        range: t.range, at: t.at, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
+        range: t.range, at: t.at, origin: t.origin, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
       }));
       const perStep = (dir: 'toDevice' | 'toHost'): Quantity => perStepQuantity(run.transfers.filter((t) => t.direction === dir), bindings);
       const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit'));
@@ -109,7 +111,7 @@ function perStepQuantity(ts: TransferRecord[], bindings: ReadonlyMap<string, S.E
 function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>): Finding[] {
   const groups = new Map<string, TransferReport[]>();
   for (const t of l.transfers) {
-    const id = `${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
+    const id = `${t.origin ?? ''}:${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
     groups.set(id, [...(groups.get(id) ?? []), t]);
   }
   const out: Finding[] = [];
@@ -126,21 +128,25 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
     const amounts = perStep !== undefined
       ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
       : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
-    const via = t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
+    const via = t0.origin
+      ? ` (the directive is in ${t0.origin}, line ${t0.range.start.line + 1}, reached from this call)`
+      : t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
+    // A directive in another file is reported at the call in this file that reaches it.
+    const place = (r: Range): Range => (t0.origin && t0.via[0] ? t0.via[0] : r);
     if (t0.cause === 'implicit') {
       out.push({
-        code: 'implicit-transfer', severity: 'warning', range: t0.range, array: t0.array,
+        code: 'implicit-transfer', severity: 'warning', range: place(t0.range), array: t0.array,
         message: `\`${t0.array}\`${sizeText} is named in no data clause and is not present, so this construct ${how === 'copied to the device and back' ? 'copies it to the device and back' : how.replace('copied', 'copies it')} ${every} by the implicit rules (OpenACC 3.3 §2.6.2: aggregates are copied; OpenMP 5.2 §5.8.1: map(tofrom))${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
       });
     } else if (t0.cause === 'update') {
       const whole = l.run.transfers.some((r) => r.range === t0.range && r.array === t0.array && r.whole);
       out.push({
-        code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: t0.at ?? t0.range, array: t0.array,
+        code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: place(t0.at ?? t0.range), array: t0.array,
         message: `This update moves ${whole ? 'all of ' : 'a slice of '}\`${t0.array}\`${whole ? sizeText : size !== null ? ` (${S.formatBytes(size)})` : ''} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it; keep it as narrow as it is.'}`,
       });
     } else {
       out.push({
-        code: 'transfer-in-time-loop', severity: 'warning', range: t0.at ?? t0.range, array: t0.array,
+        code: 'transfer-in-time-loop', severity: 'warning', range: place(t0.at ?? t0.range), array: t0.array,
         message: `\`${t0.array}\`${sizeText} is ${how} ${every} by this construct's data clause${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
       });
     }
@@ -153,7 +159,8 @@ function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: 
   const out: Finding[] = [];
   const seen = new Set<string>();
   for (const t of l.run.transfers) {
-    if (t.cause !== 'update' || !t.whole) continue;
+    // An update in another file is that file's to narrow.
+    if (t.cause !== 'update' || !t.whole || t.origin) continue;
     const id = `${t.range.start.line}:${t.array}:${t.direction}`;
     if (seen.has(id)) continue;
     seen.add(id);

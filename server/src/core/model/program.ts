@@ -151,6 +151,8 @@ export interface Procedure {
   body: Stmt[];
   /** Constant bindings visible in this procedure beyond the file's (literal initialisations never reassigned). */
   bindings: Map<string, Expr>;
+  /** Set when the procedure comes from another file of the workspace: that file's path. */
+  origin?: string;
 }
 
 export interface ProgramModel {
