@@ -5,6 +5,7 @@
  */
 import { fileURLToPath } from 'node:url';
 import { MACHINES_FILE } from '../cli/machines';
+import { neighbourSources } from './analysis/neighbours';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import {
@@ -85,9 +86,12 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     const resolved = resolveProfile(settings.profile, settings.measuredHostProfile, undefined, machinesFileFor(workspaceFolders.length > 0 ? workspaceFolders : rootUri ? [rootUri] : []));
     for (const w of resolved.warnings) config.warn(w);
     if (lastStatus.profile !== resolved.label || lastStatus.baseline !== settings.baseline) status({ profile: resolved.label, baseline: settings.baseline });
+    const path = pathOfUri(uri);
+    const openText = (p: string): string | undefined => documents.all().find((d) => pathOfUri(d.uri) === p)?.getText();
     return {
       uri, version, text, language,
-      path: pathOfUri(uri),
+      path,
+      neighbours: uri.startsWith('file:') ? neighbourSources(path, language, openText) : undefined,
       bindings: Object.entries(settings.sizeBindings),
       profile: resolved.profile,
       baseline: settings.baseline,

@@ -3,7 +3,9 @@
  * the view need. It is plain data, so it crosses to the analysis worker by structured clone.
  */
 import { performance } from 'node:perf_hooks';
-import { analyzeSource, type AnalyzeDeps, type AnalyzeOptions } from '../../core/analyze';
+import { analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions } from '../../core/analyze';
+import type { ProgramModel } from '../../core/model/program';
+import type { NeighbourSource } from './neighbours';
 import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
@@ -20,6 +22,22 @@ export interface AnalysisJob {
   profile?: MachineProfile;
   baseline: Baseline;
   view: ViewOptions;
+  /** Other sources beside the document: calls from its time loops into them are followed. */
+  neighbours?: NeighbourSource[];
+}
+
+/** Models of neighbour files, rebuilt only when their text changes (per thread). */
+const neighbourModels = new Map<string, { text: string; model: ProgramModel }>();
+
+function workspaceOf(job: AnalysisJob, deps: AnalyzeDeps): ProgramModel[] | undefined {
+  if (!job.neighbours || job.neighbours.length === 0) return undefined;
+  return job.neighbours.map((n) => {
+    const hit = neighbourModels.get(n.path);
+    if (hit && hit.text === n.text) return hit.model;
+    const model = buildModel(n, deps);
+    neighbourModels.set(n.path, { text: n.text, model });
+    return model;
+  });
 }
 
 /** The core's options for a job: the user's size bindings, the machine profile and the baseline. */
@@ -29,7 +47,7 @@ export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
 
 export function runJob(job: AnalysisJob, deps: AnalyzeDeps): DocumentView {
   const t0 = performance.now();
-  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, analyzeOptions(job));
+  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace: workspaceOf(job, deps) });
   const ms = performance.now() - t0;
   return buildView(
     { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: ms },
