@@ -17,6 +17,7 @@ import { accessesOfStatement, childStatements, printValue, walkStatements } from
 import { linearise } from '../cost/footprint';
 import { Scope } from '../cost/scope';
 import type { Directive, Finding, Fix, Range } from '../types';
+import { rangeWithin } from '../ranges';
 import type { LoopNest } from './nests';
 
 export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>): Finding[] {
@@ -188,7 +189,7 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
   const scope = new Scope(model, nest.procedure);
   const declaredInside = (name: string): boolean => {
     const decl = nest.procedure.locals.find((l) => l.name === name);
-    return !!decl && within(decl.range, nest.root.range);
+    return !!decl && rangeWithin(decl.range, nest.root.range);
   };
   const firstUse = new Map<string, 'write' | Accumulation>();
   const loopVars = new Set<string>();
@@ -221,10 +222,6 @@ function nestDirectives(nest: LoopNest): Directive[] {
   return out;
 }
 
-function within(inner: Range, outer: Range): boolean {
-  const before = (a: Range['start'], b: Range['start']): boolean => a.line < b.line || (a.line === b.line && a.col <= b.col);
-  return before(outer.start, inner.start) && before(inner.end, outer.end);
-}
 
 /** The reduction operator an assignment to `name` accumulates with, if it does. */
 function accumulation(name: string, op: string, value: VExpr): string | undefined {

@@ -6,7 +6,7 @@
  */
 import * as S from '../symbolic';
 import type { Declaration, Layout } from '../model/program';
-import type { Shape } from './regions';
+import { type Shape, shapeOf } from './regions';
 
 export interface ArrayInfo {
   name: string;
@@ -39,13 +39,7 @@ export function arrayInfo(name: string, decl: Declaration | undefined, layout: L
     extents = [countValue !== undefined && countValue > 0 ? countValue : Number.MAX_SAFE_INTEGER];
     approximate = countValue === undefined;
   }
-  const strides: number[] = [];
-  let s = 1;
-  for (const e of extents) {
-    strides.push(s);
-    s *= e;
-  }
-  return { name, decl, elementBytes, elementCount: count, shape: { strides, extents }, shapeApproximate: approximate, layout, isScalar };
+  return { name, decl, elementBytes, elementCount: count, shape: shapeOf(extents), shapeApproximate: approximate, layout, isScalar };
 }
 
 /**

@@ -9,6 +9,7 @@ import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from
 import { isDataConstruct, isOffloadCompute } from '../model/directives';
 import { accessesOfStatement, childStatements, forEachAccessInValue, toSymbolic, walkStatements } from '../model/values';
 import type { Directive, Finding, Range } from '../types';
+import { rangeWithin } from '../ranges';
 import { type ArrayInfo, arrayInfo } from './arrays';
 import { type DataEntry, dataEntries, defaultMode, motionEntries, privateNames } from './clauses';
 import { periodicGuard } from './guards';
@@ -176,7 +177,7 @@ export class DataInterpreter {
         const from = open.range.end;
         const to = d.range.start;
         for (const g of this.model.globals) {
-          if (!g.isArray || !within(g.range, { start: from, end: to })) continue;
+          if (!g.isArray || !rangeWithin(g.range, { start: from, end: to })) continue;
           this.env.allocate(g.name);
           this.env.state(g.name).structured++;
         }
@@ -720,13 +721,10 @@ function fileLevelDeclarations(model: ProgramModel): Directive[] {
   let found = declarationsOf.get(model);
   if (!found) {
     const candidates = model.directives.filter((d) => d.construct === 'declare' || d.construct.includes('declare target'));
-    found = candidates.filter((d) => !model.procedures.some((p) => within(d.range, p.range)));
+    // Procedures of other files have ranges in those files; only this file's can contain a directive here.
+    found = candidates.filter((d) => !model.procedures.some((p) => !p.origin && rangeWithin(d.range, p.range)));
     declarationsOf.set(model, found);
   }
   return found;
 }
 
-function within(inner: Range, outer: Range): boolean {
-  const le = (a: Range['start'], b: Range['start']): boolean => a.line < b.line || (a.line === b.line && a.col <= b.col);
-  return le(outer.start, inner.start) && le(inner.end, outer.end);
-}
