@@ -5,31 +5,8 @@
  */
 import * as S from '../symbolic';
 import type { Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
-import { toSymbolic, walkStatements } from '../model/values';
+import { forEachCallInValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
 import { calleesOf } from '../model/callees';
-
-function valuesOf(s: Stmt): VExpr[] {
-  switch (s.kind) {
-    case 'assign': return [s.value];
-    case 'call': return s.args;
-    case 'if': return [s.condition];
-    case 'other': return s.values;
-    default: return [];
-  }
-}
-
-function forEachCall(e: VExpr, visit: (name: string, args: VExpr[]) => void): void {
-  switch (e.kind) {
-    case 'call':
-      visit(e.name, e.args);
-      e.args.forEach((a) => forEachCall(a, visit));
-      return;
-    case 'bin': forEachCall(e.left, visit); forEachCall(e.right, visit); return;
-    case 'unary': case 'cast': forEachCall(e.operand, visit); return;
-    case 'cond': forEachCall(e.test, visit); forEachCall(e.then, visit); forEachCall(e.else, visit); return;
-    default: return;
-  }
-}
 
 export type BindingMap = Map<string, S.Expr>;
 
@@ -69,7 +46,7 @@ export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
     walkStatements(caller.body, (s: Stmt) => {
       if (s.kind === 'call') record(s.name, s.args);
       // Calls inside expressions (`printf("%g", total(f, N))`) bind parameters too.
-      for (const v of valuesOf(s)) forEachCall(v, record);
+      for (const v of valuesOfStatement(s)) forEachCallInValue(v, (c) => record(c.name, c.args));
     });
   }
   const out = new Map<string, BindingMap>();

@@ -14,7 +14,7 @@ import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, ProgramModel, Stmt, VExpr } from '../model/program';
 import { clausesNamed, collapseCount, isLoopDirective } from '../model/directives';
 import { accessesOfStatement, childStatements, printValue, walkStatements } from '../model/values';
-import { linearise } from '../cost/footprint';
+import { linearise, probeValues } from '../cost/footprint';
 import { Scope } from '../cost/scope';
 import type { Directive, Finding, Fix, Range } from '../types';
 import { rangeWithin } from '../ranges';
@@ -145,13 +145,6 @@ function carrier(w: Ref, x: Ref, loops: LoopStmt[], parallel: Set<LoopStmt>, bin
 
 function gcd(a: number, b: number): number {
   return b === 0 ? a : gcd(b, a % b);
-}
-
-function probeValues(exprs: S.Expr[]): Map<string, number> {
-  const out = new Map<string, number>();
-  let next = 10_007;
-  for (const e of exprs) for (const s of S.freeSymbols(e)) if (!out.has(s)) { out.set(s, next); next += 1_009; }
-  return out;
 }
 
 function message(array: string, w: Ref, x: Ref, c: Carried): Finding {

@@ -124,7 +124,7 @@ export function arrayFootprint(
  * distinct and far apart, so that `NX + 1` (one row and one column) can never be confused with
  * another small combination. The split is exact for offsets much smaller than these values.
  */
-function probeValues(exprs: S.Expr[]): Map<string, number> {
+export function probeValues(exprs: S.Expr[]): Map<string, number> {
   const out = new Map<string, number>();
   let next = 10_007;
   for (const e of exprs) {

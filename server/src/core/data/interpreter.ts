@@ -7,7 +7,7 @@
 import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { isDataConstruct, isOffloadCompute } from '../model/directives';
-import { accessesOfStatement, childStatements, forEachAccessInValue, toSymbolic, walkStatements } from '../model/values';
+import { accessesOfStatement, childStatements, forEachAccessInValue, forEachCallInValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
 import type { Directive, Finding, Range } from '../types';
 import { rangeWithin } from '../ranges';
 import { type ArrayInfo, arrayInfo } from './arrays';
@@ -292,7 +292,7 @@ export class DataInterpreter {
         return;
       default:
         this.hostAccesses(accessesOfStatement(s), s, ctx);
-        for (const v of s.kind === 'assign' ? [s.value] : s.kind === 'other' ? s.values : []) this.callsIn(v, s.range, ctx);
+        for (const v of valuesOfStatement(s)) this.callsIn(v, s.range, ctx);
     }
   }
 
@@ -359,15 +359,9 @@ export class DataInterpreter {
   }
 
   private callsIn(v: VExpr, at: Range, ctx: Ctx): void {
-    const visit = (e: VExpr): void => {
-      if (e.kind === 'call') {
-        if (calleesOf(this.model).resolve(e.name)) this.call(e.name, e.args, at, ctx);
-        e.args.forEach(visit);
-      } else if (e.kind === 'bin') { visit(e.left); visit(e.right); }
-      else if (e.kind === 'unary' || e.kind === 'cast') visit(e.operand);
-      else if (e.kind === 'cond') { visit(e.test); visit(e.then); visit(e.else); }
-    };
-    visit(v);
+    forEachCallInValue(v, (c) => {
+      if (calleesOf(this.model).resolve(c.name)) this.call(c.name, c.args, at, ctx);
+    });
   }
 
   private hostAccesses(accesses: ArrayAccess[], s: Stmt, ctx: Ctx): void {

@@ -22,7 +22,7 @@ export function integerLiteral(text: string): number | undefined {
  * applies at every depth.
  */
 export function toSymbolic(e: VExpr, special?: (call: VExpr & { kind: 'call' }) => S.Expr | undefined): S.Expr | undefined {
-  const toSymbolic = (x: VExpr): S.Expr | undefined => toSymbolicWith(x, special);
+  const rec = (x: VExpr): S.Expr | undefined => toSymbolic(x, special);
   switch (e.kind) {
     case 'num': {
       if (e.isFloat) return undefined;
@@ -32,17 +32,17 @@ export function toSymbolic(e: VExpr, special?: (call: VExpr & { kind: 'call' }) 
     case 'var':
       return S.sym(e.name);
     case 'cast':
-      return e.type.isFloat ? undefined : toSymbolic(e.operand);
+      return e.type.isFloat ? undefined : rec(e.operand);
     case 'unary': {
-      const x = toSymbolic(e.operand);
+      const x = rec(e.operand);
       if (!x) return undefined;
       if (e.op === '-') return S.neg(x);
       if (e.op === '+') return x;
       return undefined;
     }
     case 'bin': {
-      const l = toSymbolic(e.left);
-      const r = toSymbolic(e.right);
+      const l = rec(e.left);
+      const r = rec(e.right);
       if (!l || !r) return undefined;
       switch (e.op) {
         case '+': return S.add(l, r);
@@ -65,7 +65,7 @@ export function toSymbolic(e: VExpr, special?: (call: VExpr & { kind: 'call' }) 
     case 'call': {
       const hooked = special?.(e);
       if (hooked) return hooked;
-      const args = e.args.map(toSymbolic);
+      const args = e.args.map(rec);
       if (args.some((a) => a === undefined)) return undefined;
       const xs = args as S.Expr[];
       const name = e.name.toLowerCase();
@@ -77,11 +77,6 @@ export function toSymbolic(e: VExpr, special?: (call: VExpr & { kind: 'call' }) 
     default:
       return undefined;
   }
-}
-
-/** The module-level `toSymbolic`, reachable inside it where a local closure carries `special` down. */
-function toSymbolicWith(e: VExpr, special?: (call: VExpr & { kind: 'call' }) => S.Expr | undefined): S.Expr | undefined {
-  return toSymbolic(e, special);
 }
 
 /** Visits every array access inside a value expression, including accesses nested in subscripts. */
@@ -109,6 +104,42 @@ export function forEachAccessInValue(e: VExpr, visit: (a: ArrayAccess) => void):
       return;
     default:
       return;
+  }
+}
+
+/** Visits every call inside a value expression, outer calls first. */
+export function forEachCallInValue(e: VExpr, visit: (call: VExpr & { kind: 'call' }) => void): void {
+  switch (e.kind) {
+    case 'call':
+      visit(e);
+      for (const a of e.args) forEachCallInValue(a, visit);
+      return;
+    case 'bin':
+      forEachCallInValue(e.left, visit);
+      forEachCallInValue(e.right, visit);
+      return;
+    case 'unary':
+    case 'cast':
+      forEachCallInValue(e.operand, visit);
+      return;
+    case 'cond':
+      forEachCallInValue(e.test, visit);
+      forEachCallInValue(e.then, visit);
+      forEachCallInValue(e.else, visit);
+      return;
+    default:
+      return;
+  }
+}
+
+/** The value expressions a statement evaluates itself (not those of nested statements). */
+export function valuesOfStatement(s: Stmt): VExpr[] {
+  switch (s.kind) {
+    case 'assign': return [s.value];
+    case 'call': return s.args;
+    case 'if': return [s.condition];
+    case 'other': return s.values;
+    default: return [];
   }
 }
 
