@@ -23,5 +23,9 @@ export const FINDING_RULES: readonly FindingRule[] = [
   { code: 'loop-carried-dependence', severity: 'error', summary: 'An offloaded loop writes an element another iteration of a parallel dimension reads or writes.', grounds: 'GCD test and Banerjee bounds (Wolfe 1996; Allen & Kennedy 2001)' },
   { code: 'missing-reduction', severity: 'error', summary: 'An offloaded loop accumulates into a scalar that has no reduction clause.', grounds: 'OpenACC 3.3 §2.6.2, §2.5.15; OpenMP 5.2 data-sharing rules' },
   { code: 'unknown-extent', severity: 'info', summary: 'A size or trip count depends on a symbol the tool cannot bind.', grounds: '—' },
+  { code: 'shared-scalar-write', severity: 'error', summary: 'An offloaded loop writes a scalar declared outside it that is neither private nor a reduction variable.', grounds: 'OpenMP 5.2 data-sharing attribute rules; OpenACC 3.3 §2.6.2' },
+  { code: 'missing-private', severity: 'warning', summary: 'A scalar or local array is used as per-iteration scratch in an offloaded loop without a private clause.', grounds: 'OpenACC 3.3 private clause; OpenMP 5.2 private' },
+  { code: 'inactive-offload-branch', severity: 'info', summary: 'A preprocessor branch that holds offload directives is inactive under the current defines.', grounds: 'C11 §6.10.1 conditional inclusion' },
+  { code: 'assumed-no-alias', severity: 'info', summary: 'A figure rests on the assumption that two pointers do not alias.', grounds: '—' },
   { code: 'directive-syntax', severity: 'error', summary: 'A directive or clause the tool cannot read.', grounds: 'OpenACC 3.3 / OpenMP 5.2 grammar' },
 ];

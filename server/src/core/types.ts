@@ -32,6 +32,10 @@ export type FindingCode =
   | 'loop-carried-dependence'
   | 'missing-reduction'
   | 'unknown-extent'
+  | 'shared-scalar-write'
+  | 'missing-private'
+  | 'inactive-offload-branch'
+  | 'assumed-no-alias'
   | 'directive-syntax';
 
 /** A replacement of a source range (0-based, half-open); an empty range inserts. */

@@ -15,6 +15,10 @@ export const FINDING_CODES = [
   'loop-carried-dependence',
   'missing-reduction',
   'unknown-extent',
+  'shared-scalar-write',
+  'missing-private',
+  'inactive-offload-branch',
+  'assumed-no-alias',
   'directive-syntax',
 ] as const satisfies readonly FindingCode[];
 
