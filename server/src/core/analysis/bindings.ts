@@ -17,8 +17,23 @@ export function procedureBindings(model: ProgramModel, proc: Procedure | undefin
     for (const [k, v] of callSite.get(proc.name) ?? []) out.set(k, v);
     for (const [k, v] of proc.bindings) out.set(k, v);
   }
-  for (const [k, v] of user) out.set(k, S.num(v));
+  for (const [k, v] of user) for (const key of userKeys(model, k)) out.set(key, S.num(v));
   return out;
+}
+
+/**
+ * The symbols a user binding names in a model. Fortran names are case-insensitive (a lower-case
+ * letter is the upper-case one outside character context: Fortran 2008 §3.1, from memory), and
+ * the Fortran front end spells every name in lower case, so `--bind M_LEN=513` binds `m_len`.
+ * The key is also kept as written, because symbols the analyses make themselves keep their own
+ * spelling (`trips_L12` for a loop without a readable trip count; its `L` is matched in any case).
+ */
+export function userKeys(model: Pick<ProgramModel, 'language'>, key: string): string[] {
+  if (model.language !== 'fortran') return [key];
+  const lower = key.toLowerCase();
+  const trips = /^trips_l(\d+)$/.exec(lower);
+  if (trips) return [...new Set([key, `trips_L${trips[1]}`])];
+  return key === lower ? [key] : [key, lower];
 }
 
 /**
