@@ -4,6 +4,11 @@ import { parseArgs } from 'node:util';
 export interface CommonArgs {
   format: 'text' | 'json' | 'sarif' | 'html';
   bindings: Map<string, number>;
+  /** `-D NAME[=VALUE]`, `-U NAME`, `-I DIR`, `--directives openacc|openmp|both`. */
+  defines: Map<string, string>;
+  undefines: string[];
+  includeDirs: string[];
+  directives?: 'openacc' | 'openmp' | 'both';
   profile?: string;
   baseline: 'node' | 'core';
   machines?: string;
@@ -47,6 +52,11 @@ options:
   --format text|json|sarif|html  output (default text; json follows the published report schema; sarif is
                            SARIF 2.1.0; html is the planning report with charts, one self-contained page)
   --bind NAME=VALUE        give a size symbol a value, e.g. --bind NX=600 (repeatable)
+  -D, --define NAME[=VAL]  define a preprocessor macro for the analysis, as the compiler's -D (repeatable)
+  -U, --undefine NAME      undefine a macro, also a predefined one such as _OPENMP (repeatable)
+  -I, --include-dir DIR    search DIR for #include "..." headers after the file's own folder (repeatable)
+  --directives MODEL       which offload model is compiled: openacc (predefines _OPENACC=202211), openmp
+                           (_OPENMP=202111) or both; default: the model of the directives in each file
   --profile NAME           machine profile for the estimates (built-in presets or offload-ledger.machines.json)
   --baseline node|core     host baseline of the speedups: the whole node (default) or one core
   --machines FILE          machines file (default ./offload-ledger.machines.json when present)
@@ -74,6 +84,10 @@ export function parseCli(argv: string[]): CliArgs {
       options: {
         format: { type: 'string', short: 'f' },
         bind: { type: 'string', short: 'b', multiple: true },
+        define: { type: 'string', short: 'D', multiple: true },
+        undefine: { type: 'string', short: 'U', multiple: true },
+        'include-dir': { type: 'string', short: 'I', multiple: true },
+        directives: { type: 'string' },
         profile: { type: 'string' },
         baseline: { type: 'string' },
         machines: { type: 'string' },
@@ -117,7 +131,22 @@ export function parseCli(argv: string[]): CliArgs {
   }
   const baseline = values.baseline ?? 'node';
   if (baseline !== 'node' && baseline !== 'core') throw new UsageError(`unknown baseline \`${baseline}\`; use node or core`);
-  const common: CommonArgs = { format: format as CommonArgs['format'], bindings, profile: values.profile, baseline, machines: values.machines };
+  const defines = new Map<string, string>();
+  for (const d of values.define ?? []) {
+    const m = /^\s*([A-Za-z_]\w*)\s*(?:=(.*))?$/s.exec(d);
+    if (!m) throw new UsageError(`--define expects NAME or NAME=VALUE, got \`${d}\``);
+    defines.set(m[1], m[2] ?? '1');
+  }
+  const undefines = (values.undefine ?? []).map((u) => {
+    if (!/^[A-Za-z_]\w*$/.test(u.trim())) throw new UsageError(`--undefine expects a macro name, got \`${u}\``);
+    return u.trim();
+  });
+  const directives = values.directives;
+  if (directives !== undefined && !['openacc', 'openmp', 'both'].includes(directives)) throw new UsageError(`unknown directive model \`${directives}\`; use openacc, openmp or both`);
+  const common: CommonArgs = {
+    format: format as CommonArgs['format'], bindings, profile: values.profile, baseline, machines: values.machines,
+    defines, undefines, includeDirs: values['include-dir'] ?? [], directives: directives as CommonArgs['directives'],
+  };
   if (command === 'check') return { command, paths, ...common };
   const runs = positiveInt(values.runs, '--runs') ?? 1;
   let pool: PlanArgs['pool'];

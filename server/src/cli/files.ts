@@ -72,6 +72,21 @@ export function readSource(path: string): SourceFile {
   return { path, language, text: buf.toString('utf8') };
 }
 
+/**
+ * Reads a header for `#include "…"`: undefined when it does not exist, is a folder, is too large
+ * or is binary (the preprocessor then says the header was not found, and goes on).
+ */
+export function readHeader(path: string): string | undefined {
+  try {
+    const st = statSync(path);
+    if (!st.isFile() || st.size > MAX_FILE_BYTES) return undefined;
+    const buf = readFileSync(path);
+    return looksBinary(buf) ? undefined : buf.toString('utf8');
+  } catch {
+    return undefined;
+  }
+}
+
 /** A NUL byte in the first 8 KiB marks a binary file (the heuristic git and grep use; common practice). */
 export function looksBinary(buf: Buffer): boolean {
   return buf.subarray(0, 8192).includes(0);

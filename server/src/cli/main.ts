@@ -10,7 +10,7 @@ import { TOOL_VERSION } from '../core/report';
 import { loadGrammars } from '../grammars';
 import { type CheckArgs, type PlanArgs, USAGE, UsageError, parseCli } from './args';
 import { measure, writeProfile } from './calibrate';
-import { InputError, collectSources, readSource } from './files';
+import { InputError, collectSources, readHeader, readSource } from './files';
 import { chooseProfile, readMachinesFile } from './machines';
 import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
@@ -56,11 +56,12 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
 async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<number> {
   const profile = chooseProfile(readMachinesFile(args.machines), args.profile);
   const files = collectSources(args.paths).map(readSource);
-  const grammars = await loadGrammars();
+  const deps = { ...(await loadGrammars()), readInclude: readHeader };
+  const settings = { defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives };
   // Every file's model first, so that a time loop calling a kernel in another file follows it.
-  const models = files.map((f) => buildModel(f, grammars));
+  const models = files.map((f) => buildModel(f, deps, settings));
   const analyses: FileAnalysis[] = files.map((f, k) =>
-    analyzeSource({ ...f, model: models[k] }, grammars, { bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined }),
+    analyzeSource({ ...f, model: models[k] }, deps, { ...settings, bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined }),
   );
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);

@@ -10,6 +10,7 @@ import { buildCModel } from './frontend/c';
 import { emptyModel } from './model/empty';
 import { withWorkspace } from './model/workspace';
 import { buildFortranModel } from './frontend/fortran';
+import { type DirectiveModel, preprocess } from './preprocessor';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
 import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
@@ -33,9 +34,23 @@ export interface AnalyzeInput {
 export interface AnalyzeDeps {
   /** A tree-sitter parser for C/C++; undefined for languages with their own reader. */
   parserFor(language: SourceLanguage): Parser | undefined;
+  /** Reads a header named by `#include "…"` (a path); undefined when there is none. Absent: headers are not read. */
+  readInclude?(path: string): string | undefined;
 }
 
-export interface AnalyzeOptions {
+/** How the preprocessor sees the file: the user's `-D`/`-U`, include folders and the directive model. */
+export interface PreprocessSettings {
+  /** `--define NAME[=VALUE]`: NAME → VALUE (`1` when no value is given). */
+  defines?: ReadonlyMap<string, string>;
+  /** `--undefine NAME`, applied after the predefined macros. */
+  undefines?: readonly string[];
+  /** `--include-dir DIR`: searched after the including file's folder. */
+  includeDirs?: readonly string[];
+  /** Which of `_OPENACC`/`_OPENMP` is predefined; default: from the directives the file holds. */
+  directives?: DirectiveModel | 'both';
+}
+
+export interface AnalyzeOptions extends PreprocessSettings {
   /** The user's size bindings (`--bind NX=600`); they override everything the file says. */
   bindings?: ReadonlyMap<string, number>;
   /** The machine the estimates are for; default the `pcie4-hbm2e` preset. */
@@ -53,11 +68,20 @@ export interface AnalyzeOptions {
 }
 
 /** The program model of one file (what `analyzeSource` starts from); never throws. */
-export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps): ProgramModel {
+export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps, settings: PreprocessSettings = {}): ProgramModel {
   try {
-    if (input.language === 'fortran') return buildFortranModel(input.text, input.path);
+    const pp = preprocess(input.text, {
+      path: input.path,
+      language: input.language,
+      defines: settings.defines,
+      undefines: settings.undefines,
+      includeDirs: settings.includeDirs,
+      model: settings.directives,
+      readInclude: deps.readInclude,
+    });
+    if (input.language === 'fortran') return buildFortranModel(input.text, input.path, pp);
     const parser = deps.parserFor(input.language);
-    if (parser) return buildCModel(parser, input.text, input.path, input.language);
+    if (parser) return buildCModel(parser, pp, input.path, input.language);
   } catch {
     // The front ends are written not to throw; an empty model is what remains if one did.
   }
@@ -115,7 +139,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     internalErrors: [],
   };
   try {
-    result.model = input.model ?? buildModel(input, deps);
+    result.model = input.model ?? buildModel(input, deps, options);
     // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
     const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;
     result.findings.push(...result.model.findings);

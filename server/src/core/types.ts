@@ -121,4 +121,9 @@ export interface Directive {
   range: Range;
   /** Source text of the directive with continuations joined by one space. */
   text: string;
+  /**
+   * Set when macros were expanded in the directive line: its clause ranges are then the whole
+   * directive's, and no fix edits a clause (the clause text is not in the file as read).
+   */
+  macroExpanded?: boolean;
 }

@@ -544,7 +544,7 @@ export class DataInterpreter {
           `\`${e.ref.text}\` is already present on the device here (an enclosing data region or enter data made it present), so this \`${e.clause.name}\` moves nothing: data clauses act only on data that is not yet present (OpenACC 3.3 §2.7, OpenMP reference counts).`, ctx.frame);
         // Saying `present` states what happens and fails loudly if the region is ever removed.
         const allPresent = (e.clause.vars ?? []).every((v) => this.env.state(this.key(v.name, ctx.frame)).present);
-        if (f && d.family === 'openacc' && allPresent && e.clause.args !== undefined) {
+        if (f && d.family === 'openacc' && allPresent && e.clause.args !== undefined && !d.macroExpanded) {
           this.presentFixes.set(f, { range: e.clause.range, text: `present(${e.clause.args.trim()})`, directive: d });
         }
       }
@@ -581,7 +581,7 @@ export class DataInterpreter {
         const st = this.env.state(key);
         if (ctx.run) ctx.run.deviceUsed.add(key);
         if (!st.present) continue;
-        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole, m.ref.range);
+        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole, d.macroExpanded ? undefined : m.ref.range);
         if (m.direction === 'toHost') st.deviceNewer = subtract(st.deviceNewer, section.region);
         else st.hostNewer = subtract(st.hostNewer, section.region);
       }

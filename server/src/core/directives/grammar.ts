@@ -56,6 +56,8 @@ export interface ConstructSpec {
   lang?: 'c' | 'fortran';
   /** A few OpenMP declarative directives (`end declare target`) have an end form in C too. */
   endInC?: boolean;
+  /** Read without checking clauses: valid directives that no analysis models (OpenMP `requires`, `metadirective`). */
+  unmodelled?: boolean;
 }
 
 export interface FamilyGrammar {

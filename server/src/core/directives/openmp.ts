@@ -171,6 +171,16 @@ export const OPENMP_CONSTRUCT_SPECS: readonly ConstructSpec[] = [
   construct('section', []),
   construct('ordered', ['threads', 'simd', 'doacross', 'depend']),
   construct('scan', ['inclusive', 'exclusive'], STANDALONE),
+  // OpenMP 5.x directives read without modelling them (OpenMP 5.2 §8.2 requires, §7.5 declare
+  // variant, §7.4 metadirective, §8.3 assume, §9.1 tile/unroll, §6.5 allocate, error, nothing).
+  ...['requires', 'declare variant', 'begin declare variant', 'metadirective', 'begin metadirective', 'assume', 'assumes',
+    'begin assumes', 'error', 'nothing', 'tile', 'unroll', 'allocate', 'allocators', 'scope', 'interop', 'dispatch',
+    'depobj', 'cancel', 'cancellation point', 'declare induction'].map((n) =>
+    construct(n, [], {
+      unmodelled: true,
+      ...(/^(begin |requires|declare|assumes|error|nothing|allocate$|depobj|cancel|interop)/.test(n) ? { standalone: true } : {}),
+      ...(/^(declare variant|assumes|metadirective)$/.test(n) ? { endInC: true } : {}),
+    })),
   construct('task', [
     'if', 'final', 'untied', 'default', 'mergeable', 'private', 'firstprivate', 'shared', 'in_reduction',
     'depend', 'priority', 'allocate', 'affinity', 'detach',

@@ -93,7 +93,9 @@ function read(text: string, origin: Pos, language: SourceLanguage): ReadResult {
   const grammar = src.family === 'openacc' ? OPENACC : OPENMP;
   const head = readConstruct(ctx, grammar);
   if (!head) return { findings: ctx.findings };
-  const clauses = readClauses(ctx, grammar, head);
+  // Directives the analysis does not model (`requires`, `declare variant`, `metadirective`) are
+  // accepted as written: their clauses are the compiler's to check, and none affects the ledgers.
+  const clauses = head.spec.unmodelled ? [] : readClauses(ctx, grammar, head);
   const directive: Directive = {
     family: src.family,
     construct: head.spec.name,

@@ -13,15 +13,23 @@ import type { Directive, Finding, SourceLanguage } from '../../types';
 import { CExpressionBuilder, numberLiteral } from './expressions';
 import { readDeclaration } from './declarations';
 import { MacroTable } from './macros';
+import { type MacroDef, type Preprocessed, preprocess } from '../../preprocessor';
 import { type Node, field, namedChildren, rangeOf } from './nodes';
 import { CStatementBuilder } from './statements';
 
-export function buildCModel(parser: Parser, text: string, path: string, language: SourceLanguage): ProgramModel {
+/**
+ * `source` is the preprocessed text (inactive branches blanked, same lines and columns) with the
+ * macros of the file and its headers; a plain string is read as it is, with its own macros.
+ */
+export function buildCModel(parser: Parser, source: string | Preprocessed, path: string, language: SourceLanguage): ProgramModel {
   const model = emptyModel(path, language);
+  const pp = typeof source === 'string' ? preprocess(source, { path, language }) : source;
+  model.findings.push(...pp.findings);
+  const text = pp.text;
   const tree = parser.parse(text);
   if (!tree) return model;
   try {
-    new CModelBuilder(parser, text, language, model).build(tree.rootNode);
+    new CModelBuilder(parser, text, language, model, pp.macros).build(tree.rootNode);
   } finally {
     tree.delete();
   }
@@ -41,6 +49,7 @@ class CModelBuilder {
     private readonly text: string,
     language: SourceLanguage,
     private readonly model: ProgramModel,
+    private readonly ppMacros: ReadonlyMap<string, MacroDef>,
   ) {
     this.exprs = new CExpressionBuilder({
       parser,
@@ -56,6 +65,7 @@ class CModelBuilder {
       macros: this.macros,
       directives,
       findings,
+      ppMacros,
       declare: (d) => {
         this.locals.push(d);
         this.scope.set(d.name, d);
@@ -64,10 +74,9 @@ class CModelBuilder {
   }
 
   build(root: Node): void {
-    // Macros apply to the whole file here; a macro defined after its first use is rare in stencil codes.
-    for (const def of root.descendantsOfType(['preproc_def', 'preproc_function_def'])) {
-      if (def) this.stmts.define(def);
-    }
+    // Macros apply to the whole file here (the preprocessor's table at the end of the file, headers
+    // included); a macro defined after its first use is rare in stencil codes.
+    for (const m of this.ppMacros.values()) this.macros.define(m.name, m.body, m.params, m.variadic);
     this.bindMacros();
     this.topLevel(namedChildren(root));
     this.bindLiteralInitialisations();

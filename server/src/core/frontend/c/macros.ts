@@ -11,6 +11,7 @@ import type { Range } from '../../types';
 export interface FunctionMacro {
   name: string;
   params: string[];
+  variadic?: boolean;
   body: string;
   /** Parsed body; filled lazily by the expression builder, null when the body is not an expression. */
   template?: VExpr | null;
@@ -25,8 +26,8 @@ export class MacroTable {
   readonly functions = new Map<string, FunctionMacro>();
   readonly objects = new Map<string, ObjectMacro>();
 
-  define(name: string, body: string, params?: string[]): void {
-    if (params) this.functions.set(name, { name, params, body });
+  define(name: string, body: string, params?: string[], variadic?: boolean): void {
+    if (params) this.functions.set(name, { name, params, body, variadic });
     else this.objects.set(name, { name, body });
   }
 }
@@ -52,8 +53,17 @@ export function instantiate(template: VExpr, params: string[], args: VExpr[], at
         return { ...e, args: e.args.map(go) };
       case 'cond':
         return { ...e, test: go(e.test), then: go(e.then), else: go(e.else) };
-      case 'index':
-        return { kind: 'index', access: rebuildAccess(e.access, e.access.subscriptValues.map(go), at) };
+      case 'index': {
+        // A macro that takes the array itself (`#define AT(g,i,j) g[(j)*NX+(i)]`) names the
+        // argument's array: `AT(u,i,j)` reads `u`.
+        const rebuilt = rebuildAccess(e.access, e.access.subscriptValues.map(go), at);
+        const arg = env.get(e.access.array);
+        if (arg) {
+          const name = arrayNameOf(arg);
+          if (name) rebuilt.array = name;
+        }
+        return { kind: 'index', access: rebuilt };
+      }
       default:
         return e;
     }
@@ -63,4 +73,11 @@ export function instantiate(template: VExpr, params: string[], args: VExpr[], at
 
 export function rebuildAccess(a: ArrayAccess, values: VExpr[], at: Range): ArrayAccess {
   return { ...a, subscriptValues: values, subscripts: values.map((v) => toSymbolic(v)), subscriptText: values.map(printValue), range: at };
+}
+
+/** The array an argument names: a variable (`u`), a member (`f.u`, `p->u`), or a cast of one. */
+function arrayNameOf(e: VExpr): string | undefined {
+  if (e.kind === 'var') return e.name;
+  if (e.kind === 'cast' || (e.kind === 'unary' && e.op === '+')) return arrayNameOf(e.operand);
+  return undefined;
 }

@@ -13,7 +13,8 @@ import { normaliseName } from './expressions';
 import { readDeclaration } from './declarations';
 import { type Node, field, namedChildren, operatorOf, rangeOf, unparen } from './nodes';
 import type { MacroTable } from './macros';
-import type { SourceLanguage } from '../../types';
+import type { Range, SourceLanguage } from '../../types';
+import { type MacroDef, expandText } from '../../preprocessor';
 
 export interface StatementContext {
   text: string;
@@ -24,6 +25,30 @@ export interface StatementContext {
   findings: Finding[];
   /** Receives every local declaration met in a body. */
   declare(d: Declaration): void;
+  /** The preprocessor's macros (file and headers), for directive lines. */
+  ppMacros: ReadonlyMap<string, MacroDef>;
+}
+
+/**
+ * Expands macros in a `#pragma acc|omp` line where they stand for clauses or construct words
+ * (`#pragma omp target teams distribute parallel for MAP_CLAUSES`), as the compiler does for
+ * OpenMP and OpenACC pragmas. Arguments inside parentheses keep the names as written: the sizes
+ * there stay symbolic (`u[0:NX*NY]`), and section bounds are read with the macros separately.
+ */
+export function expandDirectiveMacros(slice: string, macros: ReadonlyMap<string, MacroDef>): { text: string; changed: boolean; unterminated: string[] } {
+  const m = /^(\s*#\s*pragma\s+(?:acc|omp)\b)([\s\S]*)$/.exec(slice);
+  if (!m || macros.size === 0) return { text: slice, changed: false, unterminated: [] };
+  const e = expandText(m[2], macros, { topLevelOnly: true });
+  return e.changed || e.unterminated.length > 0 ? { text: m[1] + e.text, changed: e.changed, unterminated: e.unterminated } : { text: slice, changed: false, unterminated: [] };
+}
+
+function markExpanded(d: Directive, whole: Range): void {
+  d.macroExpanded = true;
+  d.range = whole;
+  for (const c of d.clauses) {
+    c.range = whole;
+    for (const v of c.vars ?? []) v.range = whole;
+  }
 }
 
 export class CStatementBuilder {
@@ -110,7 +135,18 @@ export class CStatementBuilder {
     const arg = field(n, 'argument');
     if (!arg || !/^\s*(acc|omp)\b/.test(arg.text)) return undefined;
     const slice = this.ctx.text.slice(n.startIndex, arg.endIndex);
-    const result = readDirective(slice, { line: n.startPosition.row, col: n.startPosition.column }, this.ctx.language);
+    const expanded = expandDirectiveMacros(slice, this.ctx.ppMacros);
+    const result = readDirective(expanded.text, { line: n.startPosition.row, col: n.startPosition.column }, this.ctx.language);
+    if (expanded.changed) {
+      // Positions in the expanded text are not positions in the file: every range becomes the
+      // directive's own, and edits of its clauses are not offered (see Directive.macroExpanded).
+      const whole = rangeOf(n);
+      for (const f of result.findings) f.range = whole;
+      if (result.directive) markExpanded(result.directive, whole);
+    }
+    for (const name of expanded.unterminated) {
+      this.ctx.findings.push({ code: 'directive-syntax', severity: 'error', range: rangeOf(n), message: `The macro \`${name}\` in this directive has no closing parenthesis for its arguments.` });
+    }
     this.ctx.findings.push(...result.findings);
     // Section bounds may use the file's macros (`p[IDX(i,j,k):1]`); read them as C expressions here.
     for (const c of result.directive?.clauses ?? []) {
@@ -222,6 +258,14 @@ export class CStatementBuilder {
     if (l?.type === 'subscript_expression') {
       const access = this.ctx.exprs.access(l, true, op !== '=');
       if (access) return { kind: 'assign', target: { kind: 'index', access }, op, value, range, directives: [] };
+    }
+    if (l?.type === 'call_expression') {
+      // An index macro on the left (`AT(u,i,j) = …`) expands to the element it names.
+      const v = this.ctx.exprs.value(l);
+      if (v.kind === 'index') {
+        const access = { ...v.access, isWrite: true, isRead: op !== '=' };
+        return { kind: 'assign', target: { kind: 'index', access }, op, value, range, directives: [] };
+      }
     }
     if (l?.type === 'pointer_expression') {
       // `*p = v` writes element 0 of p; model it as an access so coherence analyses see the write.

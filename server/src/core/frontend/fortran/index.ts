@@ -10,13 +10,15 @@
  */
 import type { ProgramModel } from '../../model/program';
 import { emptyFortranModel, readFortranInto } from './reader';
+import type { Preprocessed } from '../../preprocessor';
 
 export { isFixedFormPath } from './source';
 
-export function buildFortranModel(text: string, path: string): ProgramModel {
+export function buildFortranModel(text: string, path: string, pp?: Preprocessed): ProgramModel {
   const model = emptyFortranModel(path);
+  if (pp) model.findings.push(...pp.findings);
   try {
-    readFortranInto(model, typeof text === 'string' ? text : '', path);
+    readFortranInto(model, typeof text === 'string' ? text : '', path, pp);
   } catch {
     // The reader is written not to throw; if it ever does, what was built so far is kept.
   }

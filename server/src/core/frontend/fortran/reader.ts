@@ -10,6 +10,7 @@ import { bindConstants } from './bindings';
 import { Cursor, entriesOf } from './cursor';
 import { realLiteral } from './expressions';
 import { readSource } from './source';
+import type { Preprocessed } from '../../preprocessor';
 import { lowerOutsideStrings } from './source/located';
 import { UnitReader } from './units';
 
@@ -21,8 +22,8 @@ export function emptyFortranModel(path: string): ProgramModel {
   return emptyModel(path, 'fortran');
 }
 
-export function readFortranInto(model: ProgramModel, text: string, path: string): void {
-  const src = readSource(text, path);
+export function readFortranInto(model: ProgramModel, text: string, path: string, pp?: Preprocessed): void {
+  const src = readSource(text, path, pp);
   const floatMacros = new Map<string, string>();
   const macroConstants = new Map<string, S.Expr>();
   for (const [name, body] of src.defines) {

@@ -7,6 +7,7 @@ import { readFixed } from './fixed';
 import { readFree } from './free';
 import type { SourceItem } from './items';
 import { preprocess } from './preprocess';
+import type { Preprocessed } from '../../../preprocessor';
 
 export type { SourceItem, StatementItem, DirectiveItem } from './items';
 export type { Located } from './located';
@@ -23,10 +24,21 @@ export function isFixedFormPath(path: string): boolean {
   return /\.(f|for|ftn|f77)$/i.test(path);
 }
 
-export function readSource(text: string, path: string): SourceRead {
+/**
+ * `pp` is the shared preprocessor's reading of the same text (conditionals evaluated, headers
+ * read); without it, the first branch of every conditional is taken.
+ */
+export function readSource(text: string, path: string, pp?: Preprocessed): SourceRead {
   const lines = text.split('\n').map((l) => (l.endsWith('\r') ? l.slice(0, -1) : l));
-  const { active, defines } = preprocess(lines);
+  const { active, defines } = pp ? { active: pp.active, defines: objectMacros(pp) } : preprocess(lines);
   const fixedForm = isFixedFormPath(path);
   const items = fixedForm ? readFixed(lines, active) : readFree(lines, active);
   return { items, defines, fixedForm };
+}
+
+/** Object-like macros of the file and its headers, without the compiler's predefined names. */
+function objectMacros(pp: Preprocessed): Map<string, string> {
+  const out = new Map<string, string>();
+  for (const m of pp.macros.values()) if (!m.params && !/^(__|_OPENACC$|_OPENMP$)/.test(m.name)) out.set(m.name, m.body);
+  return out;
 }
