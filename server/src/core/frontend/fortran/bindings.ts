@@ -2,8 +2,9 @@
  * Constant bindings of a Fortran file. Named constants (`parameter`) bind where they are
  * visible: module constants file-wide, main-program constants file-wide too (the main program
  * is the file's top level, as file-scope constants are in C), and a procedure's own constants
- * in that procedure together with its hosts'. As in the C front end, a variable with a literal
- * initialisation (`integer :: n = 512`) binds when nothing assigns it again. Because Fortran
+ * in that procedure together with its hosts' (host association). As in the C front end, a
+ * variable with a literal initialisation (`integer :: n = 512`) binds when nothing assigns it
+ * again, in its own procedure and in the internal procedures of that one. Because Fortran
  * passes arguments by reference, a variable that appears as a whole actual argument, in a
  * `read` list or as a DO variable counts as assigned.
  */
@@ -36,7 +37,12 @@ export function bindConstants(model: ProgramModel, units: readonly UnitInfo[]): 
     // Outer hosts first, so that a procedure's own constant overrides its host's of the same name.
     const chain = [];
     for (let s: typeof scope | undefined = scope; s && s.kind !== 'module'; s = s.host) chain.unshift(s);
-    for (const s of chain) for (const [n, v] of s.constants) procedure.bindings.set(n, v);
+    for (const s of chain) {
+      // A host's variable initialised once and never assigned is as constant in its internal
+      // procedures (host association) as in the host itself.
+      if (s !== scope) for (const d of s.decls.values()) if (d.init && !d.isConst && !assigned.has(d.name)) procedure.bindings.set(d.name, d.init);
+      for (const [n, v] of s.constants) procedure.bindings.set(n, v);
+    }
     if (scope.kind === 'program') {
       for (const [n, v] of scope.constants) model.bindings.set(n, v);
       for (const [n, v] of scope.floatConstants) model.floatConstants.set(n, v);

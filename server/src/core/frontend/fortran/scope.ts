@@ -26,6 +26,8 @@ export class Scope {
   /** Named constants of a floating type, for typing them in flop counts. */
   readonly floatConstants = new Map<string, ElementType>();
   private readonly uses: UseLink[] = [];
+  /** Names this scope looked up, kept only for internal procedures (see `trackReferences`). */
+  private referenced?: Set<string>;
   private implicitNone = false;
   private readonly implicit = new Map<string, ElementType>();
 
@@ -63,7 +65,32 @@ export class Scope {
   }
 
   lookup(name: string): Declaration | undefined {
+    this.referenced?.add(name);
     return this.find(name, (s) => s.decls);
+  }
+
+  /**
+   * Keeps the names this scope looks up from now on. An internal procedure does, so that the
+   * arrays it takes from its host by host association can be found once its body is read.
+   */
+  trackReferences(): void {
+    this.referenced = new Set();
+  }
+
+  get references(): ReadonlySet<string> {
+    return this.referenced ?? new Set();
+  }
+
+  /**
+   * The declaration `name` resolves to by host association from a procedure or main program,
+   * if it resolves to one: not a local, not a use-associated name, and not a module variable
+   * (module variables are the file's globals and need no link).
+   */
+  hostAssociated(name: string): Declaration | undefined {
+    const d = this.find(name, (s) => s.decls);
+    if (!d || this.decls.get(name) === d) return undefined;
+    for (let h = this.host; h && h.kind !== 'module'; h = h.host) if (h.decls.get(name) === d) return d;
+    return undefined;
   }
 
   constant(name: string): S.Expr | undefined {

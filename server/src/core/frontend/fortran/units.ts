@@ -8,6 +8,7 @@
 import * as S from '../../symbolic';
 import type { Declaration, ProgramModel, Procedure } from '../../model/program';
 import { BodyBuilder } from './body';
+import { type InternalUnit, linkHostAssociation } from './host';
 import type { Line } from './classify';
 import type { UnitContext } from './context';
 import type { Cursor, Entry } from './cursor';
@@ -48,6 +49,8 @@ function kindOfType(d: Declaration): number {
 export class UnitReader {
   private readonly modules = new Map<string, Scope>();
   readonly units: UnitInfo[] = [];
+  /** Internal procedures (after `contains` in a procedure or main program), for host association. */
+  private readonly internals: InternalUnit[] = [];
 
   constructor(
     private readonly model: ProgramModel,
@@ -88,6 +91,8 @@ export class UnitReader {
         }
       }
     }
+    const procedureOf = new Map(this.units.map((u) => [u.scope, u.procedure]));
+    linkHostAssociation(this.internals, (s) => procedureOf.get(s));
   }
 
   private context(scope: Scope, dummies: Set<string>, created: Declaration[], defaultScope: 'global' | 'local'): UnitContext {
@@ -214,6 +219,8 @@ export class UnitReader {
       after = close < 0 ? t.length : close + 1;
     }
     const scope = new Scope(kind === 'program' ? 'program' : 'procedure', name, host);
+    const internal = host && host.kind !== 'module' ? host : undefined;
+    if (internal) scope.trackReferences();
     const created: Declaration[] = [];
     const ctx = this.context(scope, new Set(dummies), created, 'local');
     const proc: Procedure = { name, range: start, nameRange, params: [], locals: [], body: [], bindings: new Map() };
@@ -235,6 +242,7 @@ export class UnitReader {
     const dc = header ? ctx.declContext(header) : undefined;
     proc.params = dummies.map((d) => scope.decls.get(d) ?? (dc ? declare(dc, d, nameRange) : undefined)).filter((d): d is Declaration => !!d);
     proc.locals = created.filter((d) => d.scope !== 'param');
+    if (internal) this.internals.push({ procedure: proc, scope, host: internal, dummies: proc.params.length });
   }
 
   /** The result variable of a function: `result(r)` or the function's name, typed by a prefix. */
