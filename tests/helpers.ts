@@ -3,7 +3,8 @@ import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import Ajv2020 from 'ajv/dist/2020';
-import { analyzeSource, type FileAnalysis } from '../server/src/core/analyze';
+import { analyzeSource, type FileAnalysis, type PreprocessSettings } from '../server/src/core/analyze';
+import { readHeader } from '../server/src/cli/files';
 import { languageOfPath } from '../server/src/core/language';
 import type { MachineProfile } from '../server/src/core/machine/profiles';
 import { loadGrammars, type Grammars } from '../server/src/grammars';
@@ -19,9 +20,14 @@ export async function grammarsForTests(): Promise<Grammars> {
   return grammars;
 }
 
-export async function analyzeText(text: string, path = 'test.c', bindings?: Record<string, number>, cacheBytes?: number, profile?: MachineProfile): Promise<FileAnalysis> {
+export async function analyzeText(
+  text: string, path = 'test.c', bindings?: Record<string, number>, cacheBytes?: number, profile?: MachineProfile, settings: PreprocessSettings = {},
+): Promise<FileAnalysis> {
   const g = await grammarsForTests();
-  return analyzeSource({ path, text, language: languageOfPath(path) ?? 'c' }, g, { bindings: new Map(Object.entries(bindings ?? {})), cacheBytes, profile });
+  // Headers are read from disk as the CLI reads them, so fixtures may include their own.
+  return analyzeSource({ path, text, language: languageOfPath(path) ?? 'c' }, { ...g, readInclude: readHeader }, {
+    ...settings, bindings: new Map(Object.entries(bindings ?? {})), cacheBytes, profile,
+  });
 }
 
 export async function analyzeFile(path: string): Promise<FileAnalysis> {

@@ -15,19 +15,29 @@ export function evaluateCondition(text: string, macros: ReadonlyMap<string, Macr
   const withDefined = replaceDefined(text, macros);
   const expanded = expandText(withDefined, macros).text;
   const tokens = tokenize(expanded).filter((t) => t.kind !== 'space');
-  const unknown: string[] = [];
-  const p = new Parser(tokens, unknown, cplusplus);
-  let v: bigint | undefined;
+  const p = new Parser(tokens, cplusplus);
+  let v: Value | undefined;
   try {
     v = p.expression();
     if (p.pos < tokens.length) v = undefined;
   } catch {
     v = undefined;
   }
-  if (unknown.length > 0) return { known: false, unknown: [...new Set(unknown)] };
   if (v === undefined) return { known: false, unknown: [] };
-  return { known: true, value: v !== 0n };
+  if (v.unknown.length > 0) return { known: false, unknown: [...new Set(v.unknown)] };
+  return { known: true, value: v.v !== 0n };
 }
+
+/**
+ * A value with the names of valueless macros it depends on. `&&`, `||` and `?:` drop the names
+ * of an operand they do not evaluate, so `defined(X) && X > 1` is known false when X is undefined.
+ */
+interface Value {
+  v: bigint;
+  unknown: string[];
+}
+
+const known = (v: bigint): Value => ({ v, unknown: [] });
 
 /** The identifiers a condition tests, in order, without `defined` (for messages that name the switch). */
 export function conditionNames(text: string): string[] {
@@ -53,40 +63,45 @@ const BINARY: { ops: string[] }[] = [
 
 class Parser {
   pos = 0;
-  constructor(private readonly tokens: Token[], private readonly unknown: string[], private readonly cplusplus: boolean) {}
+  constructor(private readonly tokens: Token[], private readonly cplusplus: boolean) {}
 
-  expression(): bigint {
+  expression(): Value {
     const test = this.binary(0);
     if (this.peek() !== '?') return test;
     this.pos++;
     const a = this.expression();
     this.expect(':');
     const b = this.expression();
-    return test !== 0n ? a : b;
+    const chosen = test.v !== 0n ? a : b;
+    return { v: chosen.v, unknown: [...test.unknown, ...chosen.unknown] };
   }
 
-  private binary(level: number): bigint {
+  private binary(level: number): Value {
     if (level >= BINARY.length) return this.unary();
     let left = this.binary(level + 1);
     while (BINARY[level].ops.includes(this.peek() ?? '')) {
       const op = this.tokens[this.pos++].text;
       const right = this.binary(level + 1);
-      left = apply(op, left, right);
+      const v = apply(op, left.v, right.v);
+      // A known left operand that decides `&&`/`||` makes the right one irrelevant.
+      const decided = left.unknown.length === 0 && ((op === '&&' && left.v === 0n) || (op === '||' && left.v !== 0n));
+      left = { v, unknown: decided ? [] : [...left.unknown, ...right.unknown] };
     }
     return left;
   }
 
-  private unary(): bigint {
+  private unary(): Value {
     const t = this.peek();
     if (t === '!' || t === '-' || t === '+' || t === '~') {
       this.pos++;
-      const v = this.unary();
-      return t === '!' ? (v === 0n ? 1n : 0n) : t === '-' ? -v : t === '~' ? ~v : v;
+      const x = this.unary();
+      const v = x.v;
+      return { v: t === '!' ? (v === 0n ? 1n : 0n) : t === '-' ? -v : t === '~' ? ~v : v, unknown: x.unknown };
     }
     return this.primary();
   }
 
-  private primary(): bigint {
+  private primary(): Value {
     const t = this.tokens[this.pos++];
     if (!t) throw new Error('unexpected end');
     if (t.text === '(') {
@@ -94,15 +109,14 @@ class Parser {
       this.expect(')');
       return v;
     }
-    if (t.kind === 'num') return integerLiteral(t.text);
-    if (t.kind === 'str' && t.text.startsWith("'")) return BigInt(charValue(t.text));
+    if (t.kind === 'num') return known(integerLiteral(t.text));
+    if (t.kind === 'str' && t.text.startsWith("'")) return known(BigInt(charValue(t.text)));
     if (t.kind === 'id') {
-      if (this.cplusplus && (t.text === 'true' || t.text === 'false')) return t.text === 'true' ? 1n : 0n;
+      if (this.cplusplus && (t.text === 'true' || t.text === 'false')) return known(t.text === 'true' ? 1n : 0n);
       // A function-like macro call left unexpanded (unknown macro): skip its argument list.
       if (this.peek() === '(') this.skipGroup();
-      if (/^(__|_[A-Z])/.test(t.text)) return 0n;
-      this.unknown.push(t.text);
-      return 0n;
+      if (/^(__|_[A-Z])/.test(t.text)) return known(0n);
+      return { v: 0n, unknown: [t.text] };
     }
     throw new Error(`unexpected ${t.text}`);
   }

@@ -238,10 +238,11 @@ class Run {
     const guess = g.branches.find((x) => x.unknown && x.unknown.length > 0);
     const why = guess
       ? `\`${(guess.unknown ?? []).join('`, `')}\` ${guess.unknown!.length === 1 ? 'has' : 'have'} no value here, so the first branch (line ${guess.line + 1}) was analysed`
-      : b.keyword === 'else'
+      : b.keyword === 'else' || g.branches.indexOf(b) > g.branches.indexOf(chosen ?? b)
         ? `an earlier branch of this conditional (\`#${chosen?.keyword} ${chosen?.condition}\`, line ${(chosen?.line ?? g.line) + 1}) is active`
         : `\`#${b.keyword} ${b.condition}\` is false under the current defines`;
-    const hint = switchHint(b.keyword === 'else' ? chosen : b, this.models());
+    const afterChosen = chosen !== undefined && g.branches.indexOf(b) > g.branches.indexOf(chosen);
+    const hint = switchHint(b.keyword === 'else' || afterChosen ? chosen : b, this.models(), afterChosen);
     this.inactiveOffload.push({
       range,
       message: `The offload directives in the branch at line ${b.line + 1} are not analysed: ${why}. ${hint}`,
@@ -298,7 +299,7 @@ function firstName(rest: string): string {
 }
 
 /** What would switch a branch on: a define, an undefine, or the other directive model. */
-function switchHint(b: { keyword: string; condition: string } | undefined, models: string[]): string {
+function switchHint(b: { keyword: string; condition: string } | undefined, models: string[], negate = false): string {
   if (!b) return '';
   const names = conditionNames(b.condition).filter((n) => !/^\d/.test(n));
   const model = names.find((n) => n === '_OPENACC' || n === '_OPENMP');
@@ -310,9 +311,9 @@ function switchHint(b: { keyword: string; condition: string } | undefined, model
       : `To analyse that branch, analyse the file as ${own === 'openmp' ? 'OpenMP' : 'OpenACC'} (\`--directives ${own}\`).`;
   }
   if (names.length === 0) return '';
-  const negated = b.keyword === 'ifndef' || b.keyword === 'elifndef';
+  const negated = negate !== (b.keyword === 'ifndef' || b.keyword === 'elifndef');
   const list = names.map((n) => `\`${n}\``).join(', ');
-  if (b.keyword === 'else' || negated) return `To analyse it, undefine ${list} (\`--undefine ${names[0]}\`, or the defines setting).`;
+  if (negated) return `To analyse it, undefine ${list} (\`--undefine ${names[0]}\`, or the defines setting).`;
   return `To analyse it, define ${list} (\`--define ${names[0]}\`${/[<>=]/.test(b.condition) ? ' with the value the condition needs' : ''}, or the defines setting).`;
 }
 

@@ -73,7 +73,7 @@ function expandTokens(
     const inner = new Set(hidden).add(def.name);
     if (!def.params) {
       state.changed = true;
-      out.push(...expandTokens(tokenize(def.body), macros, inner, {}, state, depth + 1));
+      out.push(...expandTokens(tokenize(def.body), macros, inner, options, state, depth + 1));
       continue;
     }
     // A function-like macro name not followed by `(` is an ordinary identifier.
@@ -91,7 +91,7 @@ function expandTokens(
     }
     state.changed = true;
     const replaced = substitute(def, args.args, macros, hidden, state, depth);
-    out.push(...expandTokens(replaced, macros, inner, {}, state, depth + 1));
+    out.push(...expandTokens(replaced, macros, inner, options, state, depth + 1));
     i = args.end;
   }
   return out;
