@@ -36,8 +36,12 @@ export function bindConstants(model: ProgramModel, units: readonly UnitInfo[]): 
   for (const { procedure, scope } of units) {
     // Outer hosts first, so that a procedure's own constant overrides its host's of the same name.
     const chain = [];
-    for (let s: typeof scope | undefined = scope; s && s.kind !== 'module'; s = s.host) chain.unshift(s);
+    for (let s: typeof scope | undefined = scope; s; s = s.host) chain.unshift(s);
     for (const s of chain) {
+      // Constants renamed on a `use` (`n => nx`) are visible under the local name only.
+      for (const [n, v] of s.renamedConstants()) procedure.bindings.set(n, v);
+      // Module constants are file-wide already (units.ts).
+      if (s.kind === 'module') continue;
       // A host's variable initialised once and never assigned is as constant in its internal
       // procedures (host association) as in the host itself.
       if (s !== scope) for (const d of s.decls.values()) if (d.init && !d.isConst && !assigned.has(d.name)) procedure.bindings.set(d.name, d.init);

@@ -9,19 +9,29 @@
  * directive is affected, and `buildFortranModel` never throws.
  */
 import type { ProgramModel } from '../../model/program';
-import { emptyFortranModel, readFortranInto } from './reader';
+import { setWorkspaceLinks } from '../../model/workspace';
+import type { ModuleFinder } from './modules';
+import { type FortranLinks, emptyFortranModel, readFortranInto } from './reader';
 import type { Preprocessed } from '../../preprocessor';
 
 export { isFixedFormPath } from './source';
 
-export function buildFortranModel(text: string, path: string, pp?: Preprocessed): ProgramModel {
+/**
+ * The model of one file. `findModule` gives the modules that other files of the workspace
+ * define; without it a `use` of such a module sees nothing, and the workspace step
+ * (model/workspace.ts) reads the file again with it when the workspace has the module.
+ */
+export function buildFortranModel(text: string, path: string, pp?: Preprocessed, findModule?: ModuleFinder): ProgramModel {
   const model = emptyFortranModel(path);
+  const source = typeof text === 'string' ? text : '';
   if (pp) model.findings.push(...pp.findings);
+  let links: FortranLinks = { exports: [], imports: [] };
   try {
-    readFortranInto(model, typeof text === 'string' ? text : '', path, pp);
+    links = readFortranInto(model, source, path, pp, findModule);
   } catch {
     // The reader is written not to throw; if it ever does, what was built so far is kept.
   }
   model.directives.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
+  setWorkspaceLinks(model, { ...links, relink: (find) => buildFortranModel(source, path, pp, find) });
   return model;
 }

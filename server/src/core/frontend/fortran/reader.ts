@@ -13,6 +13,8 @@ import { readSource } from './source';
 import type { Preprocessed } from '../../preprocessor';
 import { lowerOutsideStrings } from './source/located';
 import { UnitReader } from './units';
+import type { ModuleExports } from '../../model/workspace';
+import { type ModuleFinder, moduleExports } from './modules';
 
 /** A `#define` body that is a floating-point literal (`0.5d0`, `1.e-3`, `2.5`). */
 const FLOAT_LITERAL = /^[-+]?(\d+\.\d*|\.\d+|\d+(?=[eEdDqQ]))([eEdDqQ][-+]?\d+)?(_\w+)?$/;
@@ -22,7 +24,14 @@ export function emptyFortranModel(path: string): ProgramModel {
   return emptyModel(path, 'fortran');
 }
 
-export function readFortranInto(model: ProgramModel, text: string, path: string, pp?: Preprocessed): void {
+/** What a file shares with its workspace: the modules it defines and those it uses from elsewhere. */
+export interface FortranLinks {
+  exports: ModuleExports[];
+  imports: string[];
+}
+
+/** Reads a file into `model`; `findModule` gives the modules of other files when they are known. */
+export function readFortranInto(model: ProgramModel, text: string, path: string, pp?: Preprocessed, findModule?: ModuleFinder): FortranLinks {
   const src = readSource(text, path, pp);
   const floatMacros = new Map<string, string>();
   const macroConstants = new Map<string, S.Expr>();
@@ -54,7 +63,8 @@ export function readFortranInto(model: ProgramModel, text: string, path: string,
       .filter((d) => d.construct !== 'routine' && !d.construct.startsWith('declare'))
       .flatMap((d) => d.clauses.filter((c) => c.name !== d.construct).flatMap((c) => (c.vars ?? []).map((v) => v.name))),
   );
-  const units = new UnitReader(model, new Cursor(entries), { floatMacros, macroConstants, dataNames });
+  const units = new UnitReader(model, new Cursor(entries), { floatMacros, macroConstants, dataNames, findModule });
   units.run();
   bindConstants(model, units.units);
+  return { exports: moduleExports(model, units.modulesRead), imports: [...units.imported.imports] };
 }

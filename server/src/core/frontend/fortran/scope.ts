@@ -11,7 +11,7 @@ import { ElementTypes } from '../../model/types';
 
 export type ScopeKind = 'module' | 'program' | 'procedure';
 
-interface UseLink {
+export interface UseLink {
   module: Scope;
   /** `only:` list as local name → module name; undefined imports every name. */
   only?: Map<string, string>;
@@ -39,6 +39,27 @@ export class Scope {
 
   use(module: Scope, only: Map<string, string> | undefined, renames: Map<string, string>): void {
     this.uses.push({ module, only, renames });
+  }
+
+  /** The modules this scope uses, with their `only` lists and renames. */
+  get useLinks(): readonly UseLink[] {
+    return this.uses;
+  }
+
+  /**
+   * Named constants this scope sees under a local name of its own (`use grid, only: n => nx`),
+   * which the file-wide bindings of module constants do not cover.
+   */
+  renamedConstants(): [string, S.Expr][] {
+    const out: [string, S.Expr][] = [];
+    for (const u of this.uses) {
+      for (const [local, remote] of u.only ?? u.renames) {
+        if (local === remote) continue;
+        const c = u.module.constant(remote);
+        if (c) out.push([local, c]);
+      }
+    }
+    return out;
   }
 
   /**

@@ -2,13 +2,16 @@
  * Program units: modules (their variables become `model.globals`, their procedures follow
  * `contains`), the main program (also without a `program` statement), external subroutines and
  * functions, and internal procedures after `contains`, which see their host's names. A `use`
- * of a module defined earlier in the file makes its variables and constants visible; other
- * modules are outside the file and contribute nothing but the intrinsic kind names.
+ * of a module defined earlier in the file makes its variables and constants visible; a module
+ * of another file does the same when the file is read with its workspace (modules.ts), and
+ * contributes nothing but the intrinsic kind names otherwise.
  */
 import * as S from '../../symbolic';
-import type { Declaration, ProgramModel, Procedure } from '../../model/program';
+import type { Declaration, ProgramModel, Procedure, Stmt } from '../../model/program';
+import type { Directive } from '../../types';
 import { BodyBuilder } from './body';
 import { type InternalUnit, linkHostAssociation } from './host';
+import { ImportedModules, type ModuleFinder, type ModuleRead, relocate } from './modules';
 import type { Line } from './classify';
 import type { UnitContext } from './context';
 import type { Cursor, Entry } from './cursor';
@@ -33,6 +36,8 @@ export interface FileOptions {
   macroConstants: ReadonlyMap<string, S.Expr>;
   /** Every name that a directive's clause lists as data (`copy(h)`, `present(u)`). */
   dataNames: ReadonlySet<string>;
+  /** Modules of other files of the workspace, when the file is read with them. */
+  findModule?: ModuleFinder;
 }
 
 /** Attribute statements that declare their names as variables (`public`, `save`, … only qualify names). */
@@ -51,12 +56,20 @@ export class UnitReader {
   readonly units: UnitInfo[] = [];
   /** Internal procedures (after `contains` in a procedure or main program), for host association. */
   private readonly internals: InternalUnit[] = [];
+  /** The file's modules with their specification parts, for its exports. */
+  readonly modulesRead: ModuleRead[] = [];
+  /** Modules of other files that units here use. */
+  readonly imported: ImportedModules;
+  /** Declare directives of imported modules that each scope's `use` statements bring: as written there, and placed at the `use`. */
+  private readonly importedDeclares = new Map<Scope, { original: Directive; placed: Directive }[]>();
 
   constructor(
     private readonly model: ProgramModel,
     private readonly cursor: Cursor,
     private readonly opts: FileOptions,
-  ) {}
+  ) {
+    this.imported = new ImportedModules(model, opts.findModule, (n) => this.modules.get(n));
+  }
 
   run(): void {
     while (!this.cursor.eof) {
@@ -150,7 +163,14 @@ export class UnitReader {
     let i = line.head + 1;
     if (isOp(t[i], ',')) i += 2;
     if (isOp(t[i], '::')) i++;
-    const mod = isId(t[i]) ? this.modules.get(t[i].v) : undefined;
+    if (!isId(t[i])) return;
+    let mod = this.modules.get(t[i].v);
+    if (!mod) {
+      const at = lineRange(line);
+      mod = this.imported.scope(t[i].v, at);
+      const declares = (mod ? this.imported.declaresOf(mod) : []).map((original) => ({ original, placed: relocate(original, at) }));
+      if (declares.length > 0) this.importedDeclares.set(scope, [...(this.importedDeclares.get(scope) ?? []), ...declares]);
+    }
     if (!mod) return;
     i++;
     let only: Map<string, string> | undefined;
@@ -180,7 +200,8 @@ export class UnitReader {
     const created: Declaration[] = [];
     const ctx = this.context(scope, new Set(), created, 'global');
     // A module's specification part declares; nothing in it runs.
-    new BodyBuilder(this.cursor, ctx, (l) => this.spec(ctx, l)).block({ kind: 'unit' });
+    const spec = new BodyBuilder(this.cursor, ctx, (l) => this.spec(ctx, l)).block({ kind: 'unit' });
+    this.modulesRead.push({ scope, spec });
     if (lineOf(this.cursor.peek(), 'contains')) {
       this.cursor.next();
       this.contained(scope);
@@ -189,6 +210,23 @@ export class UnitReader {
     this.model.globals.push(...created);
     for (const [n, v] of scope.constants) this.model.bindings.set(n, v);
     for (const [n, v] of scope.floatConstants) this.model.floatConstants.set(n, v);
+  }
+
+  /**
+   * Declare directives of imported modules visible in a unit, through its own `use` statements
+   * or its hosts', as statements that open its body (see modules.ts).
+   */
+  private declaresFor(scope: Scope): Stmt[] {
+    const seen = new Set<Directive>();
+    const out: Stmt[] = [];
+    for (let s: Scope | undefined = scope; s; s = s.host) {
+      for (const { original, placed } of this.importedDeclares.get(s) ?? []) {
+        if (seen.has(original)) continue;
+        seen.add(original);
+        out.push({ kind: 'directive', directive: placed, range: placed.range, directives: [] });
+      }
+    }
+    return out;
   }
 
   /** Internal or module procedures after `contains`, up to the host's end. */
@@ -228,6 +266,7 @@ export class UnitReader {
     this.units.push({ procedure: proc, scope });
     if (header && kind === 'function') this.functionResult(ctx, header, kw, after, name, nameRange);
     proc.body = new BodyBuilder(this.cursor, ctx, (l) => this.spec(ctx, l)).block({ kind: 'unit' });
+    proc.body.unshift(...this.declaresFor(scope));
     let end = proc.body.length > 0 ? proc.body[proc.body.length - 1].range.end : start.end;
     if (lineOf(this.cursor.peek(), 'contains')) {
       this.cursor.next();
