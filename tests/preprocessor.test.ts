@@ -272,3 +272,34 @@ describe('figures through the preprocessor', () => {
     expect(d.macroExpanded).toBe(true);
   });
 });
+
+describe('compiler flags (the editor setting and compilation databases)', () => {
+  it('reads -D, -U, -I in joined and separate forms, the model flags, and ignores the rest', async () => {
+    const { readCompilerFlags, splitCommandLine } = await import('../server/src/core/preprocessor/flags');
+    const words = splitCommandLine(`-O3 -DUSE_GPU -D NX=512 -DMSG='"a b"' -U_OPENMP -Iinclude -I "my dir" -isystem /opt/x -fopenacc -march=native`);
+    expect(words).toContain('-DMSG="a b"');
+    const f = readCompilerFlags(words);
+    expect(f.defines).toEqual([['USE_GPU', '1'], ['NX', '512'], ['MSG', '"a b"']]);
+    expect(f.undefines).toEqual(['_OPENMP']);
+    expect(f.includeDirs).toEqual(['include', 'my dir', '/opt/x']);
+    expect(f.directives).toBe('openacc');
+    expect(readCompilerFlags(['-fopenacc', '-fopenmp']).directives).toBe('both');
+    expect(readCompilerFlags(['-D']).unreadable).toEqual(['-D']);
+  });
+});
+
+describe('CLI preprocessor options', () => {
+  it('-D, -I and --directives reach the analysis; a bad -D is a usage error', async () => {
+    const { runCli } = await import('./helpers');
+    const file = join(FIXTURES, 'jacobi_macro.c');
+    const plain = JSON.parse(runCli(['check', '--format', 'json', file]).stdout);
+    expect(plain.files[0].directives).toEqual(['openacc']);
+    const omp = JSON.parse(runCli(['check', '--format', 'json', '--directives', 'openmp', '-D', 'NX=100', file]).stdout);
+    expect(omp.files[0].directives).toEqual(['openmp']);
+    // NX=100 from -D wins over the header's #ifndef NX default of 48: (32-2)*(40-2)*(100-2) iterations.
+    expect(omp.files[0].loops.find((l: { line: number }) => l.line === 23).iterations.value).toBe(30 * 38 * 98);
+    const bad = runCli(['check', '-D', '1X', file]);
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toContain('--define expects NAME or NAME=VALUE');
+  });
+});

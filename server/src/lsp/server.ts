@@ -7,7 +7,8 @@ import { fileURLToPath } from 'node:url';
 import { MACHINES_FILE } from '../cli/machines';
 import { neighbourSources } from './analysis/neighbours';
 import { existsSync } from 'node:fs';
-import { join } from 'node:path';
+import { dirname, isAbsolute, join } from 'node:path';
+import { readCompilerFlags, splitCommandLine } from '../core/preprocessor/flags';
 import {
   CodeLensRefreshRequest,
   type Connection,
@@ -79,6 +80,12 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     void connection.sendNotification(StatusNotification.type, lastStatus).catch(() => undefined);
   };
 
+  /** The workspace folder holding a file (relative include folders are read from there), else its own folder. */
+  const folderOf = (path: string): string => {
+    const folders = (workspaceFolders.length > 0 ? workspaceFolders : rootUri ? [rootUri] : []).map(pathOfUri);
+    return folders.filter((f) => path.startsWith(f.endsWith('/') ? f : `${f}/`)).sort((a, b) => b.length - a.length)[0] ?? dirname(path);
+  };
+
   const jobFor = async (uri: string, text: string, version: number, languageId: string | undefined): Promise<AnalysisJob | undefined> => {
     const language = languageOfDocument(uri, languageId);
     if (!language) return undefined;
@@ -93,6 +100,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
       path,
       neighbours: uri.startsWith('file:') ? neighbourSources(path, language, openText) : undefined,
       bindings: Object.entries(settings.sizeBindings),
+      preprocess: preprocessOf(settings.preprocessorFlags, folderOf(path)),
       profile: resolved.profile,
       baseline: settings.baseline,
       view: {
@@ -260,4 +268,10 @@ function machinesFileFor(folders: string[]): string | undefined {
   const first = folders[0];
   if (!first || !first.startsWith('file:')) return undefined;
   return join(fileURLToPath(first), MACHINES_FILE);
+}
+
+/** The preprocessor part of a job from the `preprocessorFlags` setting. */
+function preprocessOf(flags: string, base: string): AnalysisJob['preprocess'] {
+  const f = readCompilerFlags(splitCommandLine(flags));
+  return { defines: f.defines, undefines: f.undefines, includeDirs: f.includeDirs.map((d) => (isAbsolute(d) ? d : join(base, d))), directives: f.directives };
 }

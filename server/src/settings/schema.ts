@@ -63,6 +63,13 @@ export const SETTINGS = {
     usedBy: 'server',
     markdownDescription: 'Values for size symbols the sources leave open, e.g. `{ "NX": 600, "NY": 400 }` (the same as `--bind NX=600` on the command line). They override the values found in the file.',
   },
+  preprocessorFlags: {
+    type: 'string',
+    default: '',
+    scope: 'resource',
+    usedBy: 'server',
+    markdownDescription: 'Compiler flags the analysis preprocesses with, written as on the compiler\'s command line: `-DNAME[=VALUE]`, `-UNAME`, `-I DIR` (relative to the workspace folder) and `-fopenacc` / `-fopenmp` to choose which of `_OPENACC` (202211) and `_OPENMP` (202111) is predefined; e.g. `-DUSE_GPU -DNX=512 -I include -fopenacc`. Without a model flag, each file is read in the model of its own directives. Other flags are ignored. (The command line\'s `--define`, `--undefine`, `--include-dir` and `--directives` do the same.)',
+  },
   severity: {
     type: 'object',
     properties: Object.fromEntries(FINDING_CODES.map((c) => [c, { type: 'string', enum: SEVERITY_VALUES }])),

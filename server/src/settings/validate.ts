@@ -12,6 +12,7 @@ export interface Settings {
   profile: string;
   baseline: Baseline;
   sizeBindings: Record<string, number>;
+  preprocessorFlags: string;
   severity: Partial<Record<FindingCode, SeveritySetting>>;
   'codeLens.enabled': boolean;
   'inlayHints.enabled': boolean;

@@ -6,6 +6,7 @@ import { performance } from 'node:perf_hooks';
 import { analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions } from '../../core/analyze';
 import type { ProgramModel } from '../../core/model/program';
 import type { NeighbourSource } from './neighbours';
+import { readHeader } from '../../cli/files';
 import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
@@ -19,6 +20,8 @@ export interface AnalysisJob {
   language: SourceLanguage;
   text: string;
   bindings: [string, number][];
+  /** The preprocessor settings (plain data: defines as pairs, include folders absolute). */
+  preprocess?: { defines: [string, string][]; undefines: string[]; includeDirs: string[]; directives?: 'openacc' | 'openmp' | 'both' };
   profile?: MachineProfile;
   baseline: Baseline;
   view: ViewOptions;
@@ -34,7 +37,7 @@ function workspaceOf(job: AnalysisJob, deps: AnalyzeDeps): ProgramModel[] | unde
   return job.neighbours.map((n) => {
     const hit = neighbourModels.get(n.path);
     if (hit && hit.text === n.text) return hit.model;
-    const model = buildModel(n, deps);
+    const model = buildModel(n, deps, analyzeOptions(job));
     neighbourModels.set(n.path, { text: n.text, model });
     return model;
   });
@@ -42,11 +45,17 @@ function workspaceOf(job: AnalysisJob, deps: AnalyzeDeps): ProgramModel[] | unde
 
 /** The core's options for a job: the user's size bindings, the machine profile and the baseline. */
 export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
-  return { bindings: new Map(job.bindings), baseline: job.baseline, ...(job.profile ? { profile: job.profile } : {}) };
+  const pp = job.preprocess;
+  return {
+    bindings: new Map(job.bindings), baseline: job.baseline, ...(job.profile ? { profile: job.profile } : {}),
+    ...(pp ? { defines: new Map(pp.defines), undefines: pp.undefines, includeDirs: pp.includeDirs, directives: pp.directives } : {}),
+  };
 }
 
-export function runJob(job: AnalysisJob, deps: AnalyzeDeps): DocumentView {
+export function runJob(job: AnalysisJob, grammars: AnalyzeDeps): DocumentView {
   const t0 = performance.now();
+  // Headers are read from disk in the worker, as the CLI reads them.
+  const deps: AnalyzeDeps = { ...grammars, readInclude: readHeader };
   const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace: workspaceOf(job, deps) });
   const ms = performance.now() - t0;
   return buildView(
