@@ -1,6 +1,6 @@
 /**
- * Host association of arrays (Fortran 2008 §16.5.1.4, from memory): an internal procedure sees
- * the variables of the procedure or main program that contains it, without declaring them. The
+ * Host association (Fortran 2008 §16.5.1.4, from memory): an internal procedure sees the
+ * variables of the procedure or main program that contains it, without declaring them. The
  * program model has no nesting of procedures, so the link is made explicit the way Fortran
  * itself implements it, by reference: each host array that an internal procedure uses becomes
  * an extra parameter after its dummy arguments, and every call of the procedure inside its host
@@ -8,8 +8,12 @@
  * into the internal procedure exactly as it follows an array passed as an argument, so a clause
  * there (`!$acc update self(field(:, 1))`) moves the host's array.
  *
- * Module variables need no link: they are the file's globals and visible everywhere.
+ * A host's scalar dummy arguments are linked the same way, because their values come from the
+ * host's callers (`u(1:m)` with the host's dummy `m`). Other host scalars need no link: their
+ * constant values bind in the internal procedure directly (bindings.ts), and module variables
+ * are the file's globals, visible everywhere.
  */
+import * as S from '../../symbolic';
 import type { Declaration, Procedure, Stmt, VExpr } from '../../model/program';
 import { forEachCallInValue, valuesOfStatement, walkStatements } from '../../model/values';
 import type { Scope } from './scope';
@@ -22,30 +26,43 @@ export interface InternalUnit {
   dummies: number;
 }
 
-/** Every name the directives on or in `body` list in their clauses. */
+/** The names in one bound of a clause's array section, read from its text when the reader left no form. */
+function boundNames(e: S.Expr | undefined, text: string | undefined): string[] {
+  const form = e ?? (text ? S.parseExpr(text.toLowerCase(), 'fortran') : undefined);
+  return form ? S.freeSymbols(form) : [];
+}
+
+/** Every name the directives on or in `body` list in their clauses, with the names in their sections' bounds. */
 function directiveNames(body: readonly Stmt[]): string[] {
   const out: string[] = [];
   walkStatements(body, (s) => {
     const ds = s.kind === 'directive' ? [s.directive, ...s.directives] : s.directives;
-    for (const d of ds) for (const c of d.clauses) for (const v of c.vars ?? []) out.push(v.name);
+    for (const d of ds) {
+      for (const c of d.clauses) {
+        for (const v of c.vars ?? []) {
+          out.push(v.name);
+          for (const dim of v.dims) out.push(...boundNames(dim.exprs?.lower, dim.lower), ...boundNames(dim.exprs?.upper, dim.upper));
+        }
+      }
+    }
   });
   return out;
 }
 
-/** The host arrays an internal procedure uses, in order of first mention. */
-function hostArrays(unit: InternalUnit): Declaration[] {
+/** The host arrays and scalar dummies an internal procedure uses, in order of first mention. */
+function hostLinks(unit: InternalUnit): Declaration[] {
   const out = new Map<string, Declaration>();
   for (const name of [...unit.scope.references, ...directiveNames(unit.procedure.body)]) {
     if (out.has(name)) continue;
     const d = unit.scope.hostAssociated(name);
-    if (d?.isArray) out.set(name, d);
+    if (d && (d.isArray || (d.scope === 'param' && !d.isConst))) out.set(name, d);
   }
   return [...out.values()];
 }
 
-/** Appends the host arrays to a call of an internal procedure, after its dummies. */
+/** Appends the host's names to a call of an internal procedure, after its dummies. */
 function extendCall(args: VExpr[], argText: string[] | undefined, dummies: number, names: readonly string[]): void {
-  // A call that leaves optional dummies out still lines the host arrays up behind all dummies.
+  // A call that leaves optional dummies out still lines the host's names up behind all dummies.
   while (args.length < dummies) {
     args.push({ kind: 'opaque', text: '' });
     argText?.push('');
@@ -57,7 +74,7 @@ function extendCall(args: VExpr[], argText: string[] | undefined, dummies: numbe
 }
 
 /**
- * Links the internal procedures of a file to their hosts' arrays. `units` maps each scope to
+ * Links the internal procedures of a file to their hosts' variables. `units` maps each scope to
  * its procedure, so that the calls can be found in the host and in its other internal
  * procedures (the only places an internal procedure can be called from). Each host's family is
  * walked once, whatever the number of its internal procedures.
@@ -71,10 +88,10 @@ export function linkHostAssociation(internals: readonly InternalUnit[], procedur
       families.set(unit.host, family);
     }
     family.members.push(unit.procedure);
-    const arrays = hostArrays(unit);
-    if (arrays.length === 0) continue;
-    unit.procedure.params.push(...arrays);
-    family.linked.set(unit.procedure.name, { dummies: unit.dummies, names: arrays.map((d) => d.name) });
+    const links = hostLinks(unit);
+    if (links.length === 0) continue;
+    unit.procedure.params.push(...links);
+    family.linked.set(unit.procedure.name, { dummies: unit.dummies, names: links.map((d) => d.name) });
   }
   // One node may be reached twice (a value shared by statements the front end made); extend it once.
   const done = new WeakSet<object>();
