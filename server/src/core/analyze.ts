@@ -9,6 +9,7 @@ import type { ProgramModel } from './model/program';
 import { buildCModel } from './frontend/c';
 import { emptyModel } from './model/empty';
 import { withWorkspace } from './model/workspace';
+import { substituteIndexLocals } from './model/indexLocals';
 import { buildFortranModel } from './frontend/fortran';
 import { type DirectiveModel, preprocess } from './preprocessor';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
@@ -140,6 +141,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
   };
   try {
     result.model = input.model ?? buildModel(input, deps, options);
+    result.model = substituteIndexLocals(result.model);
     // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
     const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;
     result.findings.push(...result.model.findings);
