@@ -10,6 +10,11 @@ import type { ArrayAccess, Declaration, Layout } from '../model/program';
 export interface AccessOffsets {
   isRead: boolean;
   isWrite: boolean;
+  /**
+   * A read of an element the same iteration already wrote or read (cost/reuse.ts): it moves no
+   * bytes, so traffic and layer conditions leave it out.
+   */
+  covered?: boolean;
   /** Offset per dimension, contiguous dimension first; undefined when not a constant. */
   offsets?: number[];
 }
@@ -24,9 +29,10 @@ export interface ArrayFootprint {
   accesses: AccessOffsets[];
   /** Largest |offset| per dimension over all accesses with constant offsets. */
   radius: number[];
+  /** Read and write references per iteration, as written (a re-read counts here but moves no bytes). */
   reads: number;
   writes: number;
-  /** Read and written in the same nest (an in-place update such as `u[i] += …`). */
+  /** Read (not only re-read) and written in the same nest (an in-place update such as `u[i] += …`). */
   inPlace: boolean;
   /** Some access could not be read as affine in the nest variables (indirect or non-linear). */
   irregular: boolean;
@@ -66,7 +72,7 @@ export function linearise(subscripts: S.Expr[], decl: Declaration | undefined, l
  */
 export function arrayFootprint(
   array: string,
-  accesses: { access: ArrayAccess; subscripts: (S.Expr | undefined)[] }[],
+  accesses: { access: ArrayAccess; subscripts: (S.Expr | undefined)[]; covered?: boolean }[],
   nestVars: string[],
   decl: Declaration | undefined,
   layout: Layout,
@@ -76,25 +82,28 @@ export function arrayFootprint(
     array, elementBytes, variables: [], strides: [], accesses: [], radius: [],
     reads: 0, writes: 0, inPlace: false, irregular: false,
   };
-  const forms: { a: ArrayAccess; coeffs: Map<string, S.Expr>; rest: S.Expr }[] = [];
-  for (const { access, subscripts } of accesses) {
+  const forms: { a: ArrayAccess; coeffs: Map<string, S.Expr>; rest: S.Expr; covered: boolean }[] = [];
+  let moved = false;
+  for (const { access, subscripts, covered } of accesses) {
     if (access.isRead) fp.reads++;
     if (access.isWrite) fp.writes++;
+    const flag = access.isRead && covered ? { covered: true } : {};
+    if (access.isRead && !covered) moved = true;
     if (subscripts.length === 0 || subscripts.some((s) => !s)) {
       fp.irregular = true;
-      fp.accesses.push({ isRead: access.isRead, isWrite: access.isWrite });
+      fp.accesses.push({ isRead: access.isRead, isWrite: access.isWrite, ...flag });
       continue;
     }
     const linear = linearise(subscripts as S.Expr[], decl, layout, array);
     const parts = S.affine(linear, nestVars);
     if (!parts) {
       fp.irregular = true;
-      fp.accesses.push({ isRead: access.isRead, isWrite: access.isWrite });
+      fp.accesses.push({ isRead: access.isRead, isWrite: access.isWrite, ...flag });
       continue;
     }
-    forms.push({ a: access, coeffs: parts.coeffs, rest: parts.rest });
+    forms.push({ a: access, coeffs: parts.coeffs, rest: parts.rest, covered: !!covered });
   }
-  fp.inPlace = fp.reads > 0 && fp.writes > 0;
+  fp.inPlace = moved && fp.writes > 0;
   if (forms.length === 0) return fp;
   // Dimensions are the nest variables with a non-zero stride, ordered by stride (contiguous first).
   const probe = probeValues(forms.flatMap((f) => [...f.coeffs.values(), f.rest]));
@@ -113,10 +122,40 @@ export function arrayFootprint(
       && nestVars.every((v) => vars.includes(v) || S.constValue(f.coeffs.get(v) ?? S.num(0)) === 0);
     const offsets = samePattern ? decompose(S.evaluate(f.rest, probe), strideValues) : undefined;
     if (!offsets) fp.irregular = fp.irregular || !samePattern;
-    fp.accesses.push({ isRead: f.a.isRead, isWrite: f.a.isWrite, offsets });
+    fp.accesses.push({ isRead: f.a.isRead, isWrite: f.a.isWrite, offsets, ...(f.a.isRead && f.covered ? { covered: true } : {}) });
     offsets?.forEach((o, d) => { fp.radius[d] = Math.max(fp.radius[d], Math.abs(o)); });
   }
   return fp;
+}
+
+/**
+ * Re-centres neighbour offsets on the element each iteration writes. A linear index has an
+ * arbitrary constant base (Fortran `ic = i + (j-1)*nx` is `i + j*nx - nx`), so raw offsets can
+ * all be shifted by the same amount; the written element is where the stencil is centred. An
+ * array uses its own first write, else the first write of an array with the same strides (the
+ * input of a Jacobi sweep takes the output's centre). Spans, streams and byte counts do not
+ * change; only offsets and radii do.
+ */
+export function centreOffsets(footprints: ArrayFootprint[]): void {
+  // Centres are read before any offset moves.
+  const centres = new Map<ArrayFootprint, number[]>();
+  for (const fp of footprints) {
+    const c = fp.accesses.find((a) => a.isWrite && a.offsets)?.offsets;
+    if (c) centres.set(fp, [...c]);
+  }
+  for (const fp of footprints) {
+    if (fp.variables.length === 0) continue;
+    const same = (o: ArrayFootprint): boolean => o.variables.length === fp.variables.length
+      && o.variables.every((v, d) => v === fp.variables[d] && S.equals(o.strides[d], fp.strides[d]));
+    const centre = centres.get(fp) ?? [...centres].find(([o]) => same(o))?.[1];
+    if (!centre || centre.every((c) => c === 0)) continue;
+    fp.radius = fp.variables.map(() => 0);
+    for (const a of fp.accesses) {
+      if (!a.offsets) continue;
+      a.offsets = a.offsets.map((o, d) => o - centre[d]);
+      a.offsets.forEach((o, d) => { fp.radius[d] = Math.max(fp.radius[d], Math.abs(o)); });
+    }
+  }
 }
 
 /**

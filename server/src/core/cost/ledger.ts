@@ -6,7 +6,8 @@ import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, ProgramModel, Stmt } from '../model/program';
 import { accessesOfStatement, childStatements } from '../model/values';
 import type { LoopNest } from '../analysis/nests';
-import { type ArrayFootprint, arrayFootprint } from './footprint';
+import { type ArrayFootprint, arrayFootprint, centreOffsets } from './footprint';
+import { coveredReads } from './reuse';
 import { assignmentFlops, countFlops } from './flops';
 import { intensity } from './roofline';
 import { Scope } from './scope';
@@ -67,15 +68,19 @@ export function nestCost(nest: LoopNest, model: ProgramModel, bindings: Readonly
   else flopsPerIteration = innermostFlops(nest, scope);
 
   // Bytes: footprints per array, then traffic in both views.
-  const byArray = new Map<string, { access: ArrayAccess; subscripts: (S.Expr | undefined)[] }[]>();
+  const subscripts = new Map<ArrayAccess, (S.Expr | undefined)[]>();
+  for (const a of accesses) subscripts.set(a, a.subscripts.map((s) => (s ? S.substitute(s, outer) : undefined)));
+  const covered = coveredReads(nest.root, (a) => subscripts.get(a) ?? a.subscripts);
+  const byArray = new Map<string, { access: ArrayAccess; subscripts: (S.Expr | undefined)[]; covered: boolean }[]>();
   for (const a of accesses) {
     const list = byArray.get(a.array) ?? [];
-    list.push({ access: a, subscripts: a.subscripts.map((s) => (s ? S.substitute(s, outer) : undefined)) });
+    list.push({ access: a, subscripts: subscripts.get(a)!, covered: covered.has(a) });
     byArray.set(a.array, list);
   }
   const footprints = [...byArray].map(([array, list]) =>
     arrayFootprint(array, list, nestVars, scope.lookup(array), model.layout, scope.typeOf(array)?.bytes ?? 8),
   );
+  centreOffsets(footprints);
   const t = traffic(footprints, nestVars, trips, outer, options.cacheBytes);
   return {
     flopsPerIteration,

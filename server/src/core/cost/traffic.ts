@@ -2,14 +2,15 @@
  * Memory traffic per innermost iteration, in two views.
  *
  * device — compulsory traffic in the STREAM convention (McCalpin): every distinct array read
- *   once and written once per iteration, neighbours of a stencil reused, no write-allocate.
+ *   once and written once per iteration, neighbours of a stencil reused, no write-allocate; a
+ *   read of an element the same iteration already wrote or read moves nothing (cost/reuse.ts).
  * host — what a cache-based CPU moves: write-allocate adds one read of every write-only stream
  *   (McCalpin, STREAM documentation), and the layer condition (Stengel, Treibig, Hager, Wellein,
  *   ICS 2015) decides whether the layers a stencil reuses stay in cache; where they do not, each
  *   distinct layer becomes a stream of its own.
  */
 import * as S from '../symbolic';
-import type { ArrayFootprint } from './footprint';
+import type { AccessOffsets, ArrayFootprint } from './footprint';
 
 export interface LayerCheck {
   /** The nest variable of the dimension whose layers must stay in cache. */
@@ -57,12 +58,14 @@ export function traffic(
   const arrays: ArrayTraffic[] = [];
   for (const fp of footprints) {
     const fraction = touchFraction(fp, nestVars, trips);
-    const read = fp.reads > 0;
+    // Re-reads of elements this iteration already touched move nothing (covered). Regular reads
+    // share one stream; each irregular read (no offsets) is an element of its own.
+    const irregularReads = fp.irregular ? fp.accesses.filter((a) => moves(a) && !a.offsets).length : 0;
+    const read = fp.accesses.some((a) => moves(a) && (!fp.irregular || !!a.offsets));
     const write = fp.writes > 0;
-    const irregularReads = fp.irregular ? fp.accesses.filter((a) => a.isRead && !a.offsets).length : 0;
-    const streams = read ? hostStreams(fp, reusedUpTo) + irregularReads : 0;
+    const streams = (read ? hostStreams(fp, reusedUpTo) : 0) + irregularReads;
     const deviceBytes = fp.elementBytes * fraction * ((read ? 1 : 0) + irregularReads + (write ? 1 : 0));
-    const writeAllocate = write && !read;
+    const writeAllocate = write && streams === 0;
     const hostBytes = fp.elementBytes * fraction * (streams + (write ? 1 : 0) + (writeAllocate ? 1 : 0));
     arrays.push({ array: fp.array, fraction, deviceBytes, hostBytes, hostReadStreams: streams, writeAllocate });
   }
@@ -103,7 +106,7 @@ function checkLayers(footprints: ArrayFootprint[], nestVars: string[], bindings:
     let total: number | null = 0;
     let any = false;
     for (const fp of footprints) {
-      if (fp.reads === 0) continue;
+      if (!fp.accesses.some(moves)) continue;
       const d = fp.variables.indexOf(v);
       if (d <= 0) continue;
       const span = spanIn(fp, d);
@@ -122,7 +125,7 @@ function checkLayers(footprints: ArrayFootprint[], nestVars: string[], bindings:
 
 /** Number of distinct layers (offset values) a stencil spans in dimension d, counting read accesses. */
 function spanIn(fp: ArrayFootprint, d: number): number {
-  const offs = fp.accesses.filter((a) => a.isRead && a.offsets).map((a) => a.offsets![d]);
+  const offs = fp.accesses.filter((a) => moves(a) && a.offsets).map((a) => a.offsets![d]);
   if (offs.length === 0) return 1;
   return Math.max(...offs) - Math.min(...offs) + 1;
 }
@@ -140,8 +143,13 @@ function hostStreams(fp: ArrayFootprint, reused: Map<string, boolean>): number {
   if (lowestFailing >= fp.variables.length) return 1;
   const tuples = new Set<string>();
   for (const a of fp.accesses) {
-    if (!a.isRead || !a.offsets) continue;
+    if (!moves(a) || !a.offsets) continue;
     tuples.add(a.offsets.slice(lowestFailing).join(','));
   }
   return Math.max(1, tuples.size);
+}
+
+/** A read that moves bytes: not a re-read of an element the iteration already touched. */
+function moves(a: AccessOffsets): boolean {
+  return a.isRead && !a.covered;
 }
