@@ -14,18 +14,41 @@ import type { Scope } from './scope';
  * length of a typical polynomial evaluation, about 10 multiply-adds → 20 flops (from memory:
  * vector libm kernels evaluate degree ~8–12 polynomials after range reduction).
  */
-export const MATH_FLOPS: Readonly<Record<string, number>> = {
-  sqrt: 1, sqrtf: 1, cbrt: 20, cbrtf: 20,
-  fabs: 0, fabsf: 0, abs: 0, dabs: 0,
-  fmin: 1, fminf: 1, fmax: 1, fmaxf: 1, min: 1, max: 1, amin1: 1, amax1: 1, dmin1: 1, dmax1: 1,
-  fma: 2, fmaf: 2,
-  exp: 20, expf: 20, dexp: 20, log: 20, logf: 20, dlog: 20, log10: 20, log2: 20,
-  sin: 20, sinf: 20, dsin: 20, cos: 20, cosf: 20, dcos: 20, tan: 20, tanf: 20,
-  sinh: 20, cosh: 20, tanh: 20, tanhf: 20, atan: 20, atan2: 20, asin: 20, acos: 20,
-  pow: 40, powf: 40, erf: 20, erff: 20,
+const BASE_FLOPS: Readonly<Record<string, number>> = {
+  sqrt: 1, cbrt: 20,
+  fabs: 0, abs: 0, dabs: 0,
+  fmin: 1, fmax: 1, min: 1, max: 1, amin1: 1, amax1: 1, dmin1: 1, dmax1: 1,
+  fma: 2,
+  exp: 20, dexp: 20, log: 20, dlog: 20, log10: 20, log2: 20,
+  sin: 20, dsin: 20, cos: 20, dcos: 20, tan: 20,
+  sinh: 20, cosh: 20, tanh: 20, atan: 20, atan2: 20, asin: 20, acos: 20,
+  pow: 40, erf: 20,
   floor: 0, ceil: 0, round: 0, trunc: 0, copysign: 0, sign: 0,
   real: 0, dble: 0, float: 0, sngl: 0, int: 0, nint: 0,
 };
+
+/** C's float (`sqrtf`) and long double (`sqrtl`) variants of a C math function weigh as it does. */
+const C_MATH = ['sqrt', 'cbrt', 'fabs', 'fmin', 'fmax', 'fma', 'exp', 'log', 'log10', 'log2', 'sin', 'cos', 'tan',
+  'sinh', 'cosh', 'tanh', 'atan', 'atan2', 'asin', 'acos', 'pow', 'erf', 'floor', 'ceil', 'round', 'trunc', 'copysign'];
+
+export const MATH_FLOPS: Readonly<Record<string, number>> = {
+  ...BASE_FLOPS,
+  ...Object.fromEntries(C_MATH.flatMap((f) => [[`${f}f`, BASE_FLOPS[f]], [`${f}l`, BASE_FLOPS[f]]])),
+};
+
+/**
+ * Functions whose result has the type of their arguments (C `abs`, C++ `std::min`, Fortran `max`):
+ * on integers they are index arithmetic and count nothing.
+ */
+const GENERIC = new Set(['abs', 'min', 'max']);
+
+/**
+ * The table's name for a call: lower case, without a `std::` (or global `::`) qualifier or
+ * template arguments, so C++ `std::sqrt`, `std::max<double>` weigh as their C versions.
+ */
+export function mathName(name: string): string {
+  return name.toLowerCase().replace(/<.*>$/, '').replace(/^(std)?::/, '');
+}
 
 export interface FlopCount {
   flops: number;
@@ -62,9 +85,10 @@ export function typeOfValue(e: VExpr, scope: Scope): ElementType | undefined {
       return a?.isFloat ? a : typeOfValue(e.else, scope);
     }
     case 'call': {
-      const name = e.name.toLowerCase();
+      const name = mathName(e.name);
       if (name in MATH_FLOPS && !['int', 'nint', 'floor', 'ceil'].includes(name)) {
         const args = e.args.map((a) => typeOfValue(a, scope)).filter((t): t is ElementType => !!t?.isFloat);
+        if (GENERIC.has(name)) return args[0];
         return args[0] ?? { name: 'double', bytes: 8, isFloat: true };
       }
       return undefined;
@@ -115,9 +139,10 @@ export function countFlops(e: VExpr, scope: Scope, acc: FlopCount = { flops: 0, 
       return acc;
     case 'call': {
       for (const a of e.args) countFlops(a, scope, acc);
-      const name = e.name.toLowerCase();
+      const name = mathName(e.name);
       const w = MATH_FLOPS[name];
-      if (w !== undefined) acc.flops += w;
+      // A generic function on integers (`std::max(i, 0)`) is index arithmetic.
+      if (w !== undefined) acc.flops += GENERIC.has(name) && !isFloatValue(e, scope) ? 0 : w;
       else if (isFloatValue(e, scope) || e.args.some((a) => isFloatValue(a, scope))) acc.unknownCalls.push(e.name);
       return acc;
     }
