@@ -43,6 +43,7 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
           irregular: f.irregular,
         })),
         layerConditions: r.cost.traffic.layerChecks.map((c) => ({ variable: c.variable, bytes: c.bytes, budget: c.budget, holds: c.holds })),
+        ...(n.procedure.assumptions ? { assumptions: n.procedure.assumptions } : {}),
         ...(r.estimate ? { estimate: nestEstimateJson(r.estimate) } : {}),
       };
     }),

@@ -153,6 +153,8 @@ export interface Procedure {
   bindings: Map<string, Expr>;
   /** Set when the procedure comes from another file of the workspace: that file's path. */
   origin?: string;
+  /** What the front end assumed to cost it (a template's element type), in sentences. */
+  assumptions?: string[];
 }
 
 export interface ProgramModel {

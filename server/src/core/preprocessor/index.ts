@@ -14,7 +14,7 @@
  */
 import type { Finding, Range, SourceLanguage } from '../types';
 import { conditionNames, evaluateCondition } from './condition';
-import { type MacroDef, parseDefine } from './macros';
+import { type MacroDef, expandText, parseDefine } from './macros';
 import { stripComments } from './tokens';
 
 export type { MacroDef } from './macros';
@@ -130,6 +130,10 @@ class Run {
       if (!directive) {
         active[i] = live();
         if (!live() && !at) blanked[i] = blank(lines[i]);
+        else if (!at && !this.fortran) {
+          const pragma = this.pragmaOperator(first);
+          if (pragma !== undefined) blanked[i] = pragma;
+        }
         this.noteOffload(stack, first);
         if (!this.fortran) inComment = commentStateAfter(first, inComment);
         continue;
@@ -176,6 +180,45 @@ class Run {
   }
 
   /** Marks the innermost branch whose group the compiler evaluates as holding an offload directive. */
+  /**
+   * A line that is one `_Pragma("acc …")` operator (C11 §6.10.9), written directly or through a
+   * macro (`#define PRAGMA(x) _Pragma(#x)`, then `PRAGMA(omp parallel for)`), becomes the
+   * `#pragma` line it stands for, so the directive reader sees it where the compiler does. The
+   * line keeps its number; its columns are the pragma's. Lines holding more than the operator
+   * are left as they are.
+   */
+  private pragmaOperator(line: string): string | undefined {
+    if (!line.includes('_Pragma') && !this.pragmaMacroIn(line)) return undefined;
+    const text = line.replace(/\r$/, '');
+    const expanded = expandText(text, this.macros).text;
+    const m = /^\s*_Pragma\s*\(\s*"((?:[^"\\]|\\.)*)"\s*\)\s*;?\s*$/.exec(expanded);
+    if (!m || !/^\s*(acc|omp)\b/.test(m[1])) return undefined;
+    const body = m[1].replace(/\\(["\\])/g, '$1');
+    const indent = /^\s*/.exec(text)?.[0] ?? '';
+    const pragma = `${indent}#pragma ${body.trim()}`;
+    return pragma.length < text.length ? pragma.padEnd(text.length) : pragma;
+  }
+
+  /** Whether the line names a macro whose expansion holds `_Pragma`. */
+  private pragmaMacroIn(line: string): boolean {
+    for (const m of line.matchAll(/[A-Za-z_]\w*/g)) if (this.isPragmaMacro(m[0], 0)) return true;
+    return false;
+  }
+
+  private readonly pragmaMacros = new WeakMap<MacroDef, boolean>();
+
+  private isPragmaMacro(name: string, depth: number): boolean {
+    const def = this.macros.get(name);
+    if (!def || depth > 8) return false;
+    let known = this.pragmaMacros.get(def);
+    if (known === undefined) {
+      this.pragmaMacros.set(def, false);
+      known = def.body.includes('_Pragma') || [...def.body.matchAll(/[A-Za-z_]\w*/g)].some((m) => m[0] !== name && this.isPragmaMacro(m[0], depth + 1));
+      this.pragmaMacros.set(def, known);
+    }
+    return known;
+  }
+
   private noteOffload(stack: Group[], line: string): void {
     if (stack.length === 0 || !(this.fortran ? OFFLOAD_F : OFFLOAD_C).test(line)) return;
     for (let k = stack.length - 1; k >= 0; k--) {

@@ -52,6 +52,7 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
     '',
     table(rows),
     '',
+    ...(n.procedure.assumptions ?? []).map((x) => `_Assumed:_ ${x}\n`),
     assumptions(ctx, symbols, s, !!est),
   ].join('\n');
 }

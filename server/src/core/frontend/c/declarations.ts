@@ -5,7 +5,6 @@
  */
 import * as S from '../../symbolic';
 import type { Declaration, ElementType, VExpr } from '../../model/program';
-import { elementTypeFromC } from '../../model/types';
 import { toSymbolic } from '../../model/values';
 import type { CExpressionBuilder } from './expressions';
 import { type Node, field, namedChildren, rangeOf, unparen } from './nodes';
@@ -23,7 +22,7 @@ export function readDeclaration(node: Node, scope: Declaration['scope'], exprs: 
   const qualifiers = namedChildren(node).filter((c) => c.type === 'type_qualifier').map((c) => c.text);
   const isConst = qualifiers.includes('const') || qualifiers.includes('constexpr') || /\bconstexpr\b/.test(node.text.split('=')[0]);
   const vector = /\bvector\s*<(.+)>/.exec(typeText);
-  const type = elementTypeFromC(vector ? vector[1] : typeText);
+  const type = exprs.typeOf(vector ? vector[1] : typeText);
   const out: DeclaredName[] = [];
   for (const c of node.childrenForFieldName('declarator')) {
     if (!c) continue;

@@ -4,7 +4,8 @@
  */
 import type { Parser } from 'web-tree-sitter';
 import type { ArrayAccess, ElementType, VExpr } from '../../model/program';
-import { ElementTypes, elementTypeFromC } from '../../model/types';
+import { ElementTypes } from '../../model/types';
+import type { TypeAliases } from './templates';
 import { printValue, toSymbolic } from '../../model/values';
 import { parseExpr } from '../../symbolic';
 import { MacroTable, instantiate } from './macros';
@@ -15,6 +16,8 @@ export interface ExprContext {
   macros: MacroTable;
   /** Element type of a declared name, for `sizeof *p` and `sizeof(a[0])`. */
   elementTypeOf(name: string): ElementType | undefined;
+  /** Typedefs, type macros and template parameters in scope. */
+  types: TypeAliases;
 }
 
 const MAX_MACRO_DEPTH = 16;
@@ -57,7 +60,7 @@ export class CExpressionBuilder {
         return this.value(field(n, 'argument'));
       case 'cast_expression': {
         const typeNode = field(n, 'type');
-        return { kind: 'cast', type: elementTypeFromC(typeNode?.text ?? ''), operand: this.value(field(n, 'value')) };
+        return { kind: 'cast', type: this.typeOf(typeNode?.text ?? ''), operand: this.value(field(n, 'value')) };
       }
       case 'sizeof_expression':
         return this.sizeOf(n);
@@ -127,6 +130,11 @@ export class CExpressionBuilder {
     return { kind: 'call', name, args: args.map((a) => this.value(a)) };
   }
 
+  /** The element type of a type spelling, through typedefs, type macros and template parameters. */
+  typeOf(spelling: string): ElementType {
+    return this.ctx.types.typeOf(spelling);
+  }
+
   /** Runs `f` with `name` known as an array of `type`, for initialisers that mention the name being declared. */
   declaringName<T>(name: string, type: ElementType, f: () => T): T {
     this.declaring.set(name, type);
@@ -191,7 +199,7 @@ export class CExpressionBuilder {
     let t: ElementType | undefined;
     if (typeNode) {
       const spelled = typeNode.text;
-      t = /\*/.test(spelled) ? ElementTypes.long : elementTypeFromC(spelled);
+      t = /\*/.test(spelled) ? ElementTypes.long : this.typeOf(spelled);
     } else {
       const v = field(n, 'value');
       const inner = v ? unparen(v) : undefined;

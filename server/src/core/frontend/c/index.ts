@@ -16,6 +16,7 @@ import { MacroTable } from './macros';
 import { type MacroDef, type Preprocessed, preprocess } from '../../preprocessor';
 import { type Node, field, namedChildren, rangeOf } from './nodes';
 import { CStatementBuilder } from './statements';
+import { TemplateUses, TypeAliases } from './templates';
 
 /**
  * `source` is the preprocessed text (inactive branches blanked, same lines and columns) with the
@@ -43,6 +44,10 @@ class CModelBuilder {
   private readonly exprs: CExpressionBuilder;
   private readonly stmts: CStatementBuilder;
   private locals: Declaration[] = [];
+  private readonly types = new TypeAliases();
+  private templateUses: TemplateUses | undefined;
+  /** Notes of the template declarations being read (innermost last). */
+  private readonly templateNotes: string[][] = [];
 
   constructor(
     parser: Parser,
@@ -55,6 +60,7 @@ class CModelBuilder {
       parser,
       macros: this.macros,
       elementTypeOf: (name) => this.scope.get(name)?.type,
+      types: this.types,
     });
     const directives: Directive[] = model.directives;
     const findings: Finding[] = model.findings;
@@ -73,10 +79,16 @@ class CModelBuilder {
     });
   }
 
+  private root: Node | undefined;
+
   build(root: Node): void {
+    this.root = root;
     // Macros apply to the whole file here (the preprocessor's table at the end of the file, headers
     // included); a macro defined after its first use is rare in stencil codes.
-    for (const m of this.ppMacros.values()) this.macros.define(m.name, m.body, m.params, m.variadic);
+    for (const m of this.ppMacros.values()) {
+      this.macros.define(m.name, m.body, m.params, m.variadic);
+      if (!m.params && TypeAliases.isTypeSpelling(m.body)) this.types.set(m.name, m.body);
+    }
     this.bindMacros();
     this.topLevel(namedChildren(root));
     this.bindLiteralInitialisations();
@@ -95,6 +107,18 @@ class CModelBuilder {
           this.stmts.directive(n);
           break;
         case 'type_definition':
+          this.typedef(n);
+          this.enums(n);
+          break;
+        case 'alias_declaration': {
+          const name = field(n, 'name')?.text;
+          const type = field(n, 'type')?.text;
+          if (name && type && this.types.typeOf(type).name !== 'unknown') this.types.set(name, type);
+          break;
+        }
+        case 'template_declaration':
+          this.template(n);
+          break;
         case 'enum_specifier':
           this.enums(n);
           break;
@@ -104,7 +128,6 @@ class CModelBuilder {
         case 'preproc_elif':
         case 'linkage_specification':
         case 'declaration_list':
-        case 'template_declaration':
         case 'namespace_definition':
         case 'class_specifier':
         case 'struct_specifier':
@@ -119,6 +142,29 @@ class CModelBuilder {
         default:
           break;
       }
+    }
+  }
+
+  /** `typedef double real;`: the name stands for the type wherever it declares data. */
+  private typedef(n: Node): void {
+    const type = field(n, 'type')?.text;
+    if (!type || this.types.typeOf(type).name === 'unknown') return;
+    for (const d of n.childrenForFieldName('declarator')) {
+      if (d?.type === 'type_identifier') this.types.set(d.text, type);
+    }
+  }
+
+  /** A template: its type parameters stand for the types of its instantiations while it is read. */
+  private template(n: Node): void {
+    this.templateUses ??= new TemplateUses(this.root!);
+    const binding = this.templateUses.bind(n, this.types);
+    for (const [name, type] of binding.types) this.types.set(name, type);
+    this.templateNotes.push(binding.notes);
+    try {
+      this.topLevel(namedChildren(n).filter((c) => c !== field(n, 'parameters')));
+    } finally {
+      this.templateNotes.pop();
+      for (const name of binding.types.keys()) this.types.delete(name);
     }
   }
 
@@ -173,6 +219,8 @@ class CModelBuilder {
       body,
       bindings: new Map(),
     };
+    const notes = this.templateNotes.flat();
+    if (notes.length > 0) proc.assumptions = notes;
     this.model.procedures.push(proc);
     this.scope.clear();
     for (const [k, v] of saved) this.scope.set(k, v);
