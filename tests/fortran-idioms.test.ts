@@ -12,6 +12,8 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { analyzeSource, buildModel, type FileAnalysis } from '../server/src/core/analyze';
 import { userKeys } from '../server/src/core/analysis/bindings';
+import { ownModelInWorkspace } from '../server/src/core/model/workspace';
+import * as S from '../server/src/core/symbolic';
 import { fileReport } from '../server/src/core/report';
 import { ROOT, analyzeText, grammarsForTests, runCli } from './helpers';
 
@@ -61,9 +63,10 @@ function compileAndRun(files: string[], flag: '-fopenacc' | '-fopenmp', name: st
   workDir ??= mkdtempSync(join(tmpdir(), 'offload-ledger-idioms-'));
   const dir = mkdtempSync(join(workDir, `${name}-`));
   const exe = join(dir, name);
-  // Each build has its own module directory, because two builds may define modules of one name.
+  // Each build has its own module directory and runs there, because two builds (or other
+  // suites) may define modules of one name and gfortran reads .mod files from its directory too.
   const cc = ['-O2', '-Wall', flag, `-J${dir}`, ...files.map(at), '-o', exe];
-  const c = spawnSync('gfortran', cc, { encoding: 'utf8', timeout: 120_000 });
+  const c = spawnSync('gfortran', cc, { cwd: dir, encoding: 'utf8', timeout: 120_000 });
   if (c.error) throw c.error;
   expect(c.stderr, `gfortran ${cc.join(' ')}`).toBe('');
   expect(c.status).toBe(0);
@@ -236,6 +239,9 @@ describe('modules defined in other files of the check', () => {
     const doc = { path: at('chain/driver.f90'), text: source('chain/driver.f90'), language: 'fortran' as const };
     const r = report(analyzeSource(doc, g, { workspace: others }));
     expect(r.timeLoops[0].perStep.toHost.value).toBe(4000); // 1000 × 4 bytes, as above (hand count)
+    // The document's own model as the workspace reads it binds fields' n = 1000 (hand count).
+    const own = ownModelInWorkspace(buildModel(doc, g), others);
+    expect(S.evaluate(own.bindings.get('n')!, new Map())).toBe(1000);
   });
 });
 

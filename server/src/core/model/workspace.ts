@@ -128,6 +128,15 @@ function resolve(model: ProgramModel, index: UnitIndex, active: Set<ProgramModel
   return resolved;
 }
 
+/**
+ * The file's own model as the workspace sees it (read again with the units it imports from other
+ * files, or the model itself): the same object whose procedures `withWorkspace` returns, for
+ * callers that show the file's own procedures and bindings beside the analysis.
+ */
+export function ownModelInWorkspace(model: ProgramModel, others: readonly ProgramModel[]): ProgramModel {
+  return resolve(model, indexFor(model, others), new Set());
+}
+
 export function withWorkspace(model: ProgramModel, others: readonly ProgramModel[]): ProgramModel {
   const index = indexFor(model, others);
   const self = resolve(model, index, new Set());
