@@ -233,6 +233,21 @@ describe('modules defined in other files of the check', () => {
     expect(errors(smooth)).toEqual([]);
   });
 
+  it('counts a module\'s `declare copyin` once, where the main program uses the module', async () => {
+    const g = await grammarsForTests();
+    const text = (f: string): string => (f.endsWith('fields.f90') ? source(f).replace('declare create(a, b)', 'declare copyin(a, b)') : source(f));
+    const inputs = chain.map((f) => ({ path: at(f), text: text(f), language: 'fortran' as const }));
+    expect(inputs[1].text).toContain('declare copyin(a, b)');
+    const models = inputs.map((i) => buildModel(i, g));
+    const driver = report(analyzeSource({ ...inputs[3], model: models[3] }, g, { workspace: models }));
+    const tl = driver.timeLoops[0] as TimeLoop & { once: { toDevice: Quantity } };
+    // OpenACC 3.3 §2.13: the copy is made when the program starts, 2 × 1000 × 4 bytes (hand count),
+    // not per step, and smooth's own `use fields` copies nothing again (no already-present note).
+    expect(tl.once.toDevice.value).toBe(8000);
+    expect(tl.perStep.toDevice.value).toBe(0);
+    expect(codes(driver)).not.toContain('already-present');
+  });
+
   it('resolves an editor document that is not among its workspace models', async () => {
     const g = await grammarsForTests();
     const others = chain.filter((f) => !f.endsWith('driver.f90')).map((f) => buildModel({ path: at(f), text: source(f), language: 'fortran' }, g));

@@ -14,7 +14,8 @@
  * An OpenACC `declare` (§2.13) or OpenMP `declare target` in a module makes its data present on
  * the device for the whole program. For an in-file module the data ledger reads it at file
  * level; for an imported one, each unit that uses the module starts with that directive,
- * placed at its `use`, so the data is present before anything in the unit runs.
+ * placed at its `use`, so the data is present before anything in the unit runs (see `relocate`
+ * for where its copy is counted).
  */
 import type { Declaration, ProgramModel, Stmt } from '../../model/program';
 import type { ModuleExports } from '../../model/workspace';
@@ -23,9 +24,25 @@ import { Scope } from './scope';
 
 export type ModuleFinder = (name: string) => ModuleExports | undefined;
 
-/** A directive moved to `at`, with its clauses and variables. */
-export function relocate(d: Directive, at: Range): Directive {
-  return { ...d, range: at, clauses: d.clauses.map((c) => ({ ...c, range: at, vars: c.vars?.map((v) => ({ ...v, range: at })) })) };
+/** OpenACC data clauses that copy at the start of the data's lifetime. */
+const COPYING = new Set(['copy', 'copyin', 'copyout']);
+
+/**
+ * A directive of another file placed at `at` in this one, with its clauses and variables. Its
+ * clause text is not in this file, so it is marked as a macro-expanded directive is: no fix may
+ * edit its clauses (an edit at `at` would rewrite the `use` statement).
+ *
+ * The copy a module's `declare copyin` makes happens once, when the program starts, so it is
+ * kept only where the main program uses the module (`asWritten`). Elsewhere the directive only
+ * says that the data is present on entry: its copying clauses act as `create`, which makes data
+ * present without a transfer and leaves data that is present already alone.
+ */
+export function relocate(d: Directive, at: Range, asWritten: boolean): Directive {
+  const canonical = (c: Directive['clauses'][number]): string => (!asWritten && d.family === 'openacc' && COPYING.has(c.canonical) ? 'create' : c.canonical);
+  return {
+    ...d, range: at, macroExpanded: true,
+    clauses: d.clauses.map((c) => ({ ...c, canonical: canonical(c), range: at, vars: c.vars?.map((v) => ({ ...v, range: at })) })),
+  };
 }
 
 /** Declare directives that make module data present: OpenACC `declare`, OpenMP `declare target` with a list. */

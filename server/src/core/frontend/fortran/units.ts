@@ -168,7 +168,7 @@ export class UnitReader {
     if (!mod) {
       const at = lineRange(line);
       mod = this.imported.scope(t[i].v, at);
-      const declares = (mod ? this.imported.declaresOf(mod) : []).map((original) => ({ original, placed: relocate(original, at) }));
+      const declares = (mod ? this.imported.declaresOf(mod) : []).map((original) => ({ original, placed: relocate(original, at, scope.kind === 'program') }));
       if (declares.length > 0) this.importedDeclares.set(scope, [...(this.importedDeclares.get(scope) ?? []), ...declares]);
     }
     if (!mod) return;
@@ -214,12 +214,14 @@ export class UnitReader {
 
   /**
    * Declare directives of imported modules visible in a unit, through its own `use` statements
-   * or its hosts', as statements that open its body (see modules.ts).
+   * or its module's, as statements that open its body (see modules.ts). A host procedure's are
+   * left out: its internal procedures run only after the host's body has started.
    */
   private declaresFor(scope: Scope): Stmt[] {
     const seen = new Set<Directive>();
     const out: Stmt[] = [];
     for (let s: Scope | undefined = scope; s; s = s.host) {
+      if (s !== scope && s.kind !== 'module') continue;
       for (const { original, placed } of this.importedDeclares.get(s) ?? []) {
         if (seen.has(original)) continue;
         seen.add(original);
