@@ -34,7 +34,8 @@ describe('calls into other files of the workspace', () => {
     expect(at).toHaveLength(2);
     for (const f of at) {
       expect(f.line).toBe(10);
-      expect(f.message).toContain(`the directive is in ${dir}/kernels.c, line 3`);
+      // The callee file is named relative to the file being checked, not by a machine-specific path.
+      expect(f.message).toContain("the directive is in kernels.c, line 3");
     }
   });
 

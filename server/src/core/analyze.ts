@@ -233,10 +233,13 @@ function unknownExtentFindings(a: FileAnalysis): Finding[] {
   for (const [sym, u] of uses) {
     const loop = 'nest' in u.first ? u.first.nest.root : u.first.timeLoop.loop;
     const lines = [...new Set(u.lines)];
-    const where = `${lines.length === 1 ? 'the loop at line' : `${lines.length} loops (lines`} ${lines.join(', ')}${lines.length === 1 ? '' : ')'}`;
+    const one = lines.length === 1;
+    const where = one ? `the trip count of the loop at line ${lines[0]} stays` : `the trip counts of ${lines.length} loops (lines ${lines.join(', ')}) stay`;
+    const fortran = a.language === 'fortran';
+    const give = fortran ? 'or make it a `parameter`' : 'or give it a `#define`, a `const` initialisation or a `-D` (`--define`)';
     const how = sym.startsWith('trips_L')
-      ? `The trip count of the loop at line ${sym.slice(7)} cannot be read from its header (a while loop or non-affine bounds), so ${where} stay symbolic; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
-      : `\`${sym}\` has no value the tool can see, so the trip counts of ${where} stay symbolic; bind it with \`--bind ${sym}=<value>\` (or the size-bindings setting), or give it a \`#define\`, \`const\` or literal initialisation.`;
+      ? `The trip count of the loop at line ${sym.slice(7)} cannot be read from its header (a while loop or non-affine bounds), so ${where} symbolic; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
+      : `\`${sym}\` has no value the tool can see, so ${where} symbolic; bind it with \`--bind ${sym}=<value>\` (or the size-bindings setting), ${give}.`;
     out.push({ code: 'unknown-extent', severity: 'info', range: loop.keywordRange, message: how });
   }
   return out;

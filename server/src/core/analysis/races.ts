@@ -202,7 +202,7 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
     const loopDirective = nest.root.directives.find(isLoopDirective) ?? d;
     out.push({
       code: 'missing-reduction', severity: 'error', range: use.range, array: name,
-      message: `This offloaded loop accumulates into \`${name}\` (\`${name} = ${use.op === 'max' || use.op === 'min' ? `${use.op}(${name}, …)` : `${name} ${use.op} …`}\`) without a reduction clause; \`${name}\` is firstprivate by default, so each thread sums into its own copy and the host never sees the total. Add \`reduction(${use.op}:${name})\` to the loop directive.`,
+      message: `This offloaded loop accumulates into \`${name}\` (\`${name} = ${use.op === 'max' || use.op === 'min' ? `${use.op}(${name}, …)` : `${name} ${use.op} …`}\`) without a reduction clause; \`${name}\` is firstprivate by default, so each thread ${use.op === 'max' ? 'keeps the largest value in its own copy' : use.op === 'min' ? 'keeps the smallest value in its own copy' : use.op === '*' ? 'multiplies into its own copy' : 'sums into its own copy'} and the host never sees the ${use.op === 'max' ? 'maximum' : use.op === 'min' ? 'minimum' : use.op === '*' ? 'product' : 'total'}. Add \`reduction(${use.op}:${name})\` to the loop directive.`,
       fixes: [reductionFix(loopDirective, use.op, name)],
     });
   }

@@ -4,6 +4,7 @@
  * copy of each element. Each time loop body runs twice; the second pass is the steady state and
  * is the one recorded per step.
  */
+import { relativeToFile } from '../paths';
 import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { isDataConstruct, isOffloadCompute } from '../model/directives';
@@ -647,7 +648,7 @@ export class DataInterpreter {
   private finding(code: Finding['code'], range: Range, array: string, message: string, frame?: Frame): Finding | undefined {
     const origin = frame?.proc.origin;
     const at = origin && frame.via[0] ? frame.via[0] : range;
-    const text = origin ? `In ${origin}, line ${range.start.line + 1} (reached from this call): ${message}` : message;
+    const text = origin ? `In ${relativeToFile(this.model.path, origin)}, line ${range.start.line + 1} (reached from this call): ${message}` : message;
     const id = `${code}:${at.start.line}:${at.start.col}:${array}:${origin ?? ''}:${range.start.line}`;
     if (this.seenFindings.has(id)) return undefined;
     this.seenFindings.add(id);

@@ -3,6 +3,7 @@
  * (where, why, how often), bytes per step and once, coherence findings, and the data region that
  * keeps the arrays resident.
  */
+import { relativeToFile } from '../paths';
 import * as S from '../symbolic';
 import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
 import type { TimeLoop } from '../analysis/nests';
@@ -84,7 +85,7 @@ export function dataLedger(
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
-      const fromTransfers = transferFindings(ledger, bindings);
+      const fromTransfers = transferFindings(ledger, bindings, model.path);
       for (const f of fromTransfers) if (regionFix && (f.code === 'implicit-transfer' || f.severity === 'warning')) f.fixes = [regionFix];
       findings.push(...fromTransfers, ...widerUpdateFindings(ledger, interp, model), ...memoryFindings(ledger, options));
     }
@@ -108,7 +109,7 @@ function perStepQuantity(ts: TransferRecord[], bindings: ReadonlyMap<string, S.E
 }
 
 /** One finding per (directive, array): both directions of a copy in one sentence. */
-function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>): Finding[] {
+function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string): Finding[] {
   const groups = new Map<string, TransferReport[]>();
   for (const t of l.transfers) {
     const id = `${t.origin ?? ''}:${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
@@ -129,7 +130,7 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
       ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
       : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
     const via = t0.origin
-      ? ` (the directive is in ${t0.origin}, line ${t0.range.start.line + 1}, reached from this call)`
+      ? ` (the directive is in ${relativeToFile(path, t0.origin)}, line ${t0.range.start.line + 1}, reached from this call)`
       : t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
     // A directive in another file is reported at the call in this file that reaches it.
     const place = (r: Range): Range => (t0.origin && t0.via[0] ? t0.via[0] : r);
