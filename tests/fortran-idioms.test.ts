@@ -12,6 +12,8 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { analyzeSource, buildModel, type FileAnalysis } from '../server/src/core/analyze';
 import { userKeys } from '../server/src/core/analysis/bindings';
+import { buildFortranModel } from '../server/src/core/frontend/fortran';
+import { forEachCallInValue } from '../server/src/core/model/values';
 import { ownModelInWorkspace } from '../server/src/core/model/workspace';
 import * as S from '../server/src/core/symbolic';
 import { fileReport } from '../server/src/core/report';
@@ -285,6 +287,38 @@ describe('host association in internal procedures', () => {
     // OpenACC 3.3 §2.6: the device wrote field in relax, and exchange reads it on the host.
     expect(r.findings.filter((f) => f.code === 'stale-on-host').length).toBeGreaterThan(0);
     expect(r.timeLoops[0].perStep.toHost.value).toBe(0);
+  });
+
+  it('links only names that resolve to the host: a dummy of the same name shadows the host array', () => {
+    const text = [
+      'program shade',
+      '  implicit none',
+      '  real(8) :: w(10), v(10)',
+      '  w = 1.0d0',
+      '  v = 2.0d0',
+      '  call scale(v)',
+      '  print *, total() + w(1)',
+      'contains',
+      '  subroutine scale(w)',
+      '    real(8), intent(inout) :: w(10)',
+      '    w = 2.0d0 * w',
+      '  end subroutine scale',
+      '  real(8) function total()',
+      '    total = sum(v)',
+      '  end function total',
+      'end program shade',
+    ].join('\n');
+    const model = buildFortranModel(text, 'shade.f90');
+    const proc = (n: string) => model.procedures.find((p) => p.name === n)!;
+    // Fortran 2008 §16.5.1.4: a local (here a dummy) of the same name hides the host's entity.
+    expect(proc('scale').params.map((p) => p.name)).toEqual(['w']);
+    // The internal function reads the host's v: it becomes its parameter, and the reference
+    // `total()` in the host's print passes v there.
+    expect(proc('total').params.map((p) => p.name)).toEqual(['v']);
+    const print = proc('shade').body.find((st) => st.kind === 'other' && st.text.startsWith('print'));
+    const calls: { name: string; args: unknown[] }[] = [];
+    for (const v of print && print.kind === 'other' ? print.values : []) forEachCallInValue(v, (c) => calls.push({ name: c.name, args: c.args }));
+    expect(calls.find((c) => c.name === 'total')?.args).toEqual([{ kind: 'var', name: 'v' }]);
   });
 
   it('an internal procedure of a subroutine moves the array its host received as an argument', async () => {
