@@ -303,3 +303,17 @@ describe('CLI preprocessor options', () => {
     expect(bad.stderr).toContain('--define expects NAME or NAME=VALUE');
   });
 });
+
+describe('generated stencil code', () => {
+  it('an offset written with a signed literal (`(i+-1)*n+(j+0)`) is a stencil neighbour, not an irregular read', async () => {
+    // A 4-point star written the way code generators print offsets: out read and written, in read
+    // once with neighbours reused: 24 bytes per iteration (STREAM convention, McCalpin); 4
+    // multiplies, 3 adds and the += make 8 flops (hand count).
+    const text = 'void star(int n, const double *restrict in, double *restrict out) {\n#pragma acc parallel loop\nfor (int i=1; i<n-1; i++)\n  for (int j=1; j<n-1; j++)\n    out[i*n+j] += in[(i+-1)*n+(j+0)] * -0.5 + in[(i+0)*n+(j+-1)] * -0.5 + in[(i+0)*n+(j+1)] * 0.5 + in[(i+1)*n+(j+0)] * 0.5;\n}\n';
+    const a = await analyzeText(text, 'star.c');
+    const loop = (fileReport(a) as { loops: { flopsPerIteration: number; bytesPerIteration: { device: number }; footprint: { array: string; irregular: boolean; radius: number[] }[] }[] }).loops[0];
+    expect(loop.flopsPerIteration).toBe(8);
+    expect(loop.bytesPerIteration.device).toBe(24);
+    expect(loop.footprint.find((f) => f.array === 'in')).toMatchObject({ irregular: false, radius: [1, 1] });
+  });
+});

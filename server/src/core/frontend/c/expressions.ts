@@ -33,8 +33,14 @@ export class CExpressionBuilder {
     if (!node) return { kind: 'opaque', text: '' };
     const n = unparen(node);
     switch (n.type) {
-      case 'number_literal':
-        return numberLiteral(n.text);
+      case 'number_literal': {
+        // tree-sitter folds a sign into the literal in `i+-1`; keep it as a negation so that the
+        // subscript stays an affine form.
+        const sign = /^\s*([-+])\s*/.exec(n.text);
+        if (!sign) return numberLiteral(n.text);
+        const magnitude = numberLiteral(n.text.slice(sign[0].length));
+        return sign[1] === '-' ? { kind: 'unary', op: '-', operand: magnitude } : magnitude;
+      }
       case 'char_literal':
         return { kind: 'num', text: n.text, isFloat: false };
       case 'true':
