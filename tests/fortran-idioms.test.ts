@@ -126,12 +126,12 @@ describe('Fortran names are matched in any case', () => {
       expect(iterations(r, 43), key).toBe(511);
       expect(codes(r)).not.toContain('unknown-extent');
       const tl = r.timeLoops[0];
-      expect(tl.line).toBe(22);
+      expect(tl.line).toBe(22); // the `do STEP` line of mixed_case.f90 (hand count)
       expect(tl.steps.value).toBe(200); // `do STEP = 1, 200` (hand count)
       // `!$Acc Update Self(WAVE(1:M_Len))`: 513 real(8) values = 4,104 bytes per step (hand count);
       // the clause's `WAVE` is the array declared as `Wave`.
       expect(tl.perStep.toHost.value).toBe(4104);
-      expect(tl.perStep.toDevice.value).toBe(0);
+      expect(tl.perStep.toDevice.value).toBe(0); // enter data before the loop; nothing goes to the device per step (hand count)
       expect(tl.transfers.map((t) => [t.line, t.array, t.direction, t.bytes.value])).toEqual([[28, 'wave', 'toHost', 4104]]);
       expect(errors(r)).toEqual([]);
     }
@@ -171,7 +171,7 @@ describe('modules defined in other files of the check', () => {
     expect(iterations(r, 19)).toBe(64260);
     expect(iterations(r, 25)).toBe(64260);
     const tl = r.timeLoops[0];
-    expect(tl.line).toBe(17);
+    expect(tl.line).toBe(17); // the `do step` line of heat_main.f90 (hand count)
     expect(tl.steps.value).toBe(100); // nsteps = 100 in params_mod.f90 (hand count)
     // The module's `!$acc declare create(T, T_New)` keeps both fields on the device (OpenACC 3.3
     // §2.13), so the kernels move nothing; `update self(t(1:nx, ny / 2))` moves 512 real(8)
@@ -246,7 +246,7 @@ describe('modules defined in other files of the check', () => {
     // OpenACC 3.3 §2.13: the copy is made when the program starts, 2 × 1000 × 4 bytes (hand count),
     // not per step, and smooth's own `use fields` copies nothing again (no already-present note).
     expect(tl.once.toDevice.value).toBe(8000);
-    expect(tl.perStep.toDevice.value).toBe(0);
+    expect(tl.perStep.toDevice.value).toBe(0); // as with `declare create` above (hand count)
     expect(codes(driver)).not.toContain('already-present');
   });
 
@@ -266,7 +266,7 @@ describe('host association in internal procedures', () => {
   it.each(['host_assoc.f90', 'host_assoc_omp.f90'])('%s: the internal procedure\'s update moves the host\'s array', async (file) => {
     const r = report(await analyzeText(source(file), at(file)));
     const tl = r.timeLoops[0];
-    expect(tl.line).toBe(13);
+    expect(tl.line).toBe(13); // the `do step` line (hand count)
     expect(tl.steps.value).toBe(50); // nsteps = 50 (hand count)
     // Two edge columns field(1:nx, 1) and field(1:nx, ny) of 256 real(8) values: 2,048 bytes
     // each, 4,096 bytes per step (hand count); the data region keeps field on the device.
@@ -275,7 +275,7 @@ describe('host association in internal procedures', () => {
       [36, 'field', 'toHost', 2048],
     ]);
     expect(tl.perStep.toHost.value).toBe(4096);
-    expect(tl.perStep.toDevice.value).toBe(0);
+    expect(tl.perStep.toDevice.value).toBe(0); // the data region around the loop keeps field present (hand count)
     // relax's kernel over the host array runs nx × ny = 16,384 iterations (hand count).
     expect(iterations(r, 26)).toBe(16384);
     expect(errors(r)).toEqual([]);
@@ -286,7 +286,7 @@ describe('host association in internal procedures', () => {
     const r = report(await analyzeText(text, at('host_assoc.f90')));
     // OpenACC 3.3 §2.6: the device wrote field in relax, and exchange reads it on the host.
     expect(r.findings.filter((f) => f.code === 'stale-on-host').length).toBeGreaterThan(0);
-    expect(r.timeLoops[0].perStep.toHost.value).toBe(0);
+    expect(r.timeLoops[0].perStep.toHost.value).toBe(0); // no update left in the loop (hand count)
   });
 
   it('links only names that resolve to the host: a dummy of the same name shadows the host array', () => {
