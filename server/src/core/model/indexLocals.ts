@@ -43,11 +43,12 @@ export function substituteIndexLocals(model: ProgramModel): ProgramModel {
     globals ??= new Map(model.globals.map((g) => [g.name, g]));
     return globals.get(name);
   };
+  const symbols = new Map<string, S.Expr | null>();
   let changed = false;
   const procedures = model.procedures.map((p) => {
     // Procedures of other files (workspace view) were rewritten with their own model.
     if (p.origin) return p;
-    const body = new ProcedurePass(model, p, globalOf).run();
+    const body = new ProcedurePass(model, p, globalOf, symbols).run();
     if (body === p.body) return p;
     changed = true;
     return { ...p, body };
@@ -163,6 +164,8 @@ interface Local {
   sym: S.Expr;
   /** Names the value reads. */
   names: Set<string>;
+  /** Symbols of `sym`. */
+  symbols: string[];
 }
 
 interface Frame {
@@ -190,7 +193,13 @@ class ProcedurePass {
   private offload = false;
   private decls: Map<string, Declaration> | undefined;
 
-  constructor(private readonly model: ProgramModel, private readonly proc: Procedure, private readonly globalOf: (n: string) => Declaration | undefined) {}
+  constructor(
+    private readonly model: ProgramModel,
+    private readonly proc: Procedure,
+    private readonly globalOf: (n: string) => Declaration | undefined,
+    /** Symbolic forms of call-free values by their text, shared by the procedures of a model. */
+    private readonly symbols: Map<string, S.Expr | null>,
+  ) {}
 
   run(): Stmt[] {
     const callees = calleesOf(this.model);
@@ -314,9 +323,9 @@ class ProcedurePass {
     if (names.has(name)) return;
     for (const n of names) if (frame.facts.writes.has(n) || frame.facts.innerVars.has(n)) return;
     if (!this.integerScalar(name, names)) return;
-    const sym = toSymbolic(value, (c) => this.shapeInquiry(c));
+    const sym = this.symbolic(value);
     if (!sym) return;
-    frame.env.set(name, { value, sym, names });
+    frame.env.set(name, { value, sym, names, symbols: S.freeSymbols(sym) });
   }
 
   /** The value with index locals substituted, or undefined when it is not integer arithmetic we can inline. */
@@ -355,6 +364,20 @@ class ProcedurePass {
       default:
         return undefined;
     }
+  }
+
+  /**
+   * The value's symbolic form. Loops often compute the same index (`IDX(i, j, k)` in every
+   * sweep), so forms are kept by their text; values with calls are not kept, since a Fortran
+   * shape inquiry depends on the procedure's declarations.
+   */
+  private symbolic(value: VExpr): S.Expr | undefined {
+    const text = hasCall(value) ? undefined : printValue(value);
+    const hit = text === undefined ? undefined : this.symbols.get(text);
+    if (hit !== undefined) return hit ?? undefined;
+    const sym = toSymbolic(value, (c) => this.shapeInquiry(c));
+    if (text !== undefined) this.symbols.set(text, sym ?? null);
+    return sym;
   }
 
   private decl(name: string): Declaration | undefined {
@@ -495,22 +518,22 @@ class ProcedurePass {
     const syms = new Set<string>();
     subscripts.forEach((sub, k) => {
       if (!sub) return;
-      const names = S.freeSymbols(sub);
-      const bind = new Map<string, S.Expr>();
-      for (const n of names) {
+      const bind = new Map<string, Local>();
+      for (const n of S.freeSymbols(sub)) {
         const local = env.get(n);
         if (local) {
-          bind.set(n, local.sym);
+          bind.set(n, local);
+          for (const x of local.symbols) syms.add(x);
           continue;
         }
+        syms.add(n);
         // A scalar some enclosing loop assigns and does not substitute: varies with that loop.
         for (const f of this.stack) if (f.facts.writes.has(n)) pending.push({ frame: f, k });
       }
       if (bind.size > 0) {
-        subscripts[k] = S.substitute(sub, bind);
+        subscripts[k] = substitute(sub, bind);
         substituted = true;
       }
-      for (const n of S.freeSymbols(subscripts[k]!)) syms.add(n);
     });
     // Counts for the time-loop test of every enclosing loop this access sits in a nested loop of.
     for (let d = 0; d < this.stack.length - 1; d++) {
@@ -532,6 +555,34 @@ class ProcedurePass {
     };
     for (const p of pending) p.frame.pending.push({ access: out, k: p.k });
     return out;
+  }
+}
+
+/**
+ * Substitutes locals into a subscript. Subscripts are almost always affine in the locals
+ * (`c - 1`, `ind + ny`), so the value is added in directly, which is much cheaper than the
+ * general substitution that rebuilds every term.
+ */
+function substitute(sub: S.Expr, bind: Map<string, Local>): S.Expr {
+  const parts = S.affine(sub, [...bind.keys()]);
+  if (!parts) return S.substitute(sub, new Map([...bind].map(([k, v]) => [k, v.sym])));
+  const terms = [parts.rest];
+  for (const [name, coeff] of parts.coeffs) {
+    const c = S.constValue(coeff);
+    if (c === 0) continue;
+    const value = bind.get(name)!.sym;
+    terms.push(c === 1 ? value : S.mul(coeff, value));
+  }
+  return S.add(...terms);
+}
+
+function hasCall(e: VExpr): boolean {
+  switch (e.kind) {
+    case 'call': return true;
+    case 'bin': return hasCall(e.left) || hasCall(e.right);
+    case 'unary':
+    case 'cast': return hasCall(e.operand);
+    default: return false;
   }
 }
 
