@@ -8,7 +8,7 @@ import * as S from './symbolic';
 import type { ProgramModel } from './model/program';
 import { buildCModel } from './frontend/c';
 import { emptyModel } from './model/empty';
-import { withWorkspace } from './model/workspace';
+import { ownModelInWorkspace, withWorkspace } from './model/workspace';
 import { substituteIndexLocals } from './model/indexLocals';
 import { buildFortranModel } from './frontend/fortran';
 import { type DirectiveModel, preprocess } from './preprocessor';
@@ -141,6 +141,9 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
   };
   try {
     result.model = input.model ?? buildModel(input, deps, options);
+    // The file as its workspace resolves it (a Fortran `use` of another file's module): the
+    // views read bindings and procedures from this model, so they must see the same names.
+    if (options.workspace && options.workspace.length > 0) result.model = ownModelInWorkspace(result.model, options.workspace);
     result.model = substituteIndexLocals(result.model);
     // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
     const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;
@@ -238,7 +241,7 @@ function unknownExtentFindings(a: FileAnalysis): Finding[] {
     const fortran = a.language === 'fortran';
     const give = fortran ? 'or make it a `parameter`' : 'or give it a `#define`, a `const` initialisation or a `-D` (`--define`)';
     const how = sym.startsWith('trips_L')
-      ? `The trip count of the loop at line ${sym.slice(7)} cannot be read from its header (a while loop or non-affine bounds), so ${where} symbolic; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
+      ? `The trip count of the loop at line ${sym.slice(7)} cannot be read from its header (a while loop or non-affine bounds), so it stays symbolic${one && String(lines[0]) === sym.slice(7) ? '' : ` and so ${one ? `does the loop at line ${lines[0]}` : `do ${lines.length} loops (lines ${lines.join(', ')})`}`}; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
       : `\`${sym}\` has no value the tool can see, so ${where} symbolic; bind it with \`--bind ${sym}=<value>\` (or the size-bindings setting), ${give}.`;
     out.push({ code: 'unknown-extent', severity: 'info', range: loop.keywordRange, message: how });
   }

@@ -5,6 +5,7 @@
  */
 import type { NestReport, TimeLoopReport } from '../../core/analyze';
 import { nestIterations } from '../../core/analysis/nests';
+import { userKeys } from '../../core/analysis/bindings';
 import type { TransferReport } from '../../core/data/ledger';
 import type { NestEstimate, StepEstimate } from '../../core/estimate/types';
 import type { ViewContext, ArraySize } from './context';
@@ -22,7 +23,7 @@ function table(rows: [string, string][]): string {
 }
 
 function assumptions(ctx: ViewContext, symbols: [string, number | undefined][], s: CardSettings, estimated: boolean): string {
-  const bound = symbols.filter(([, v]) => v !== undefined).map(([k, v]) => `${k} = ${v!.toLocaleString('en-US')}${ctx.userBindings.has(k) ? ' (setting)' : ''}`);
+  const bound = symbols.filter(([, v]) => v !== undefined).map(([k, v]) => `${k} = ${v!.toLocaleString('en-US')}${[...ctx.userBindings.keys()].some((u) => userKeys(ctx.analysis.model, u).includes(k)) ? ' (setting)' : ''}`);
   const unbound = symbols.filter(([, v]) => v === undefined).map(([k]) => `\`${k}\``);
   const parts = [estimated ? `profile \`${s.profileName}\`, baseline ${s.baseline === 'core' ? 'one host core' : 'the whole host node'}` : `no machine estimate in this version (profile \`${s.profileName}\` selected)`];
   if (bound.length > 0) parts.push(`sizes ${bound.join(', ')}`);
