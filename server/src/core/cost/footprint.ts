@@ -132,9 +132,11 @@ export function arrayFootprint(
  * Re-centres neighbour offsets on the element each iteration writes. A linear index has an
  * arbitrary constant base (Fortran `ic = i + (j-1)*nx` is `i + j*nx - nx`), so raw offsets can
  * all be shifted by the same amount; the written element is where the stencil is centred. An
- * array uses its own first write, else the first write of an array with the same strides (the
- * input of a Jacobi sweep takes the output's centre). Spans, streams and byte counts do not
- * change; only offsets and radii do.
+ * array written in the nest uses its own first write. An array only read takes the first write
+ * of an array with the same strides (the input of a Jacobi sweep takes the output's centre) when
+ * that brings its offsets closer in every dimension and strictly closer in one; otherwise (a
+ * pointwise read beside a write into a slice of a bigger array) it keeps its own offsets. Spans,
+ * streams and byte counts do not change; only offsets and radii do.
  */
 export function centreOffsets(footprints: ArrayFootprint[]): void {
   // Centres are read before any offset moves.
@@ -143,18 +145,25 @@ export function centreOffsets(footprints: ArrayFootprint[]): void {
     const c = fp.accesses.find((a) => a.isWrite && a.offsets)?.offsets;
     if (c) centres.set(fp, [...c]);
   }
+  const radiusAbout = (fp: ArrayFootprint, centre: number[]): number[] => {
+    const r = fp.variables.map(() => 0);
+    for (const a of fp.accesses) a.offsets?.forEach((o, d) => { r[d] = Math.max(r[d], Math.abs(o - centre[d])); });
+    return r;
+  };
   for (const fp of footprints) {
     if (fp.variables.length === 0) continue;
-    const same = (o: ArrayFootprint): boolean => o.variables.length === fp.variables.length
-      && o.variables.every((v, d) => v === fp.variables[d] && S.equals(o.strides[d], fp.strides[d]));
-    const centre = centres.get(fp) ?? [...centres].find(([o]) => same(o))?.[1];
-    if (!centre || centre.every((c) => c === 0)) continue;
-    fp.radius = fp.variables.map(() => 0);
-    for (const a of fp.accesses) {
-      if (!a.offsets) continue;
-      a.offsets = a.offsets.map((o, d) => o - centre[d]);
-      a.offsets.forEach((o, d) => { fp.radius[d] = Math.max(fp.radius[d], Math.abs(o)); });
+    let centre = centres.get(fp);
+    if (!centre) {
+      const same = (o: ArrayFootprint): boolean => o.variables.length === fp.variables.length
+        && o.variables.every((v, d) => v === fp.variables[d] && S.equals(o.strides[d], fp.strides[d]));
+      const other = [...centres].find(([o]) => same(o))?.[1];
+      const moved = other ? radiusAbout(fp, other) : undefined;
+      const closer = !!moved && moved.every((r, d) => r <= fp.radius[d]) && moved.some((r, d) => r < fp.radius[d]);
+      centre = closer ? other : undefined;
     }
+    if (!centre || centre.every((c) => c === 0)) continue;
+    fp.radius = radiusAbout(fp, centre);
+    for (const a of fp.accesses) if (a.offsets) a.offsets = a.offsets.map((o, d) => o - centre![d]);
   }
 }
 
