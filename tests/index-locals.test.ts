@@ -230,6 +230,30 @@ void f(void) {
     expect(a.nests[0].cost.bytes.device).toBe(56);
   });
 
+  it('a re-read covers only on straight-line code; an element written in one arm of a branch is read from memory', async () => {
+    const a = await analyzeText(`
+#define N 1000
+static double a[N], b[N], c[N];
+void f(int p) {
+  for (int i = 0; i < N; i++) { b[i] = a[i]; c[i] = b[i] + 1.0; }
+  for (int i = 0; i < N; i++) { if (p) b[i] = a[i]; c[i] = b[i] + 1.0; }
+}`);
+    // Hand count: read a + write b + write c = 24 (b[i] re-read after the write moves nothing);
+    // in the second loop b[i] may not have been written, so its read counts: 32.
+    expect(a.nests.map((n) => n.cost.bytes.device)).toEqual([24, 32]);
+  });
+
+  it('a pointwise read beside a write into a slice of a bigger array keeps radius 0', async () => {
+    const a = await analyzeText(`
+#define N 1000
+static double a[N], hist[100 * N];
+void f(int k) {
+  for (int i = 0; i < N; i++) hist[k * N + i] = a[i];
+}`);
+    // Both accesses are pointwise (hand reading): the slice's base k*N is not a stencil offset.
+    expect(a.nests[0].cost.footprints.map((f) => [f.array, f.radius])).toEqual([['hist', [0]], ['a', [0]]]);
+  });
+
   it('std::max on integers is index arithmetic and weighs nothing; on doubles it weighs as fmax', async () => {
     const a = await analyzeText(`
 #include <algorithm>
