@@ -80,9 +80,10 @@ export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps, settings: Pre
       model: settings.directives,
       readInclude: deps.readInclude,
     });
-    if (input.language === 'fortran') return buildFortranModel(input.text, input.path, pp);
+    // Index locals are substituted here, so the models of other workspace files get it too.
+    if (input.language === 'fortran') return substituteIndexLocals(buildFortranModel(input.text, input.path, pp));
     const parser = deps.parserFor(input.language);
-    if (parser) return buildCModel(parser, pp, input.path, input.language);
+    if (parser) return substituteIndexLocals(buildCModel(parser, pp, input.path, input.language));
   } catch {
     // The front ends are written not to throw; an empty model is what remains if one did.
   }
@@ -140,11 +141,15 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     internalErrors: [],
   };
   try {
-    result.model = input.model ?? buildModel(input, deps, options);
+    const built = input.model ?? buildModel(input, deps, options);
+    result.model = built;
     // The file as its workspace resolves it (a Fortran `use` of another file's module): the
-    // views read bindings and procedures from this model, so they must see the same names.
-    if (options.workspace && options.workspace.length > 0) result.model = ownModelInWorkspace(result.model, options.workspace);
-    result.model = substituteIndexLocals(result.model);
+    // views read bindings and procedures from this model, so they must see the same names. A
+    // re-read file gets its index locals substituted like every model buildModel makes.
+    if (options.workspace && options.workspace.length > 0) {
+      const resolved = ownModelInWorkspace(built, options.workspace);
+      if (resolved !== built) result.model = substituteIndexLocals(resolved);
+    }
     // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
     const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;
     result.findings.push(...result.model.findings);

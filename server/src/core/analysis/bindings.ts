@@ -43,20 +43,13 @@ export function userKeys(model: Pick<ProgramModel, 'language'>, key: string): st
  */
 export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
   const callees = calleesOf(model);
-  const seen = new Map<string, (S.Expr | undefined)[][]>();
+  // One walk collects every call with its arguments as symbolic forms.
+  const calls: { caller: Procedure; callee: Procedure; values: (S.Expr | undefined)[] }[] = [];
   for (const caller of model.procedures) {
-    const local: BindingMap = new Map([...model.bindings, ...caller.bindings]);
     const record = (called: string, args: VExpr[]): void => {
       const callee = callees.resolve(called);
       if (!callee || callee === caller) return;
-      const name = callee.name;
-      const values = args.map((a) => {
-        const e = toSymbolic(a);
-        return e ? S.substitute(e, local) : undefined;
-      });
-      const list = seen.get(name) ?? [];
-      list.push(values);
-      seen.set(name, list);
+      calls.push({ caller, callee, values: args.map((a) => toSymbolic(a)) });
     };
     walkStatements(caller.body, (s: Stmt) => {
       if (s.kind === 'call') record(s.name, s.args);
@@ -64,18 +57,41 @@ export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
       for (const v of valuesOfStatement(s)) forEachCallInValue(v, (c) => record(c.name, c.args));
     });
   }
-  const out = new Map<string, BindingMap>();
-  for (const [name, calls] of seen) {
-    const callee = model.procedures.find((p) => p.name === name)!;
-    const b: BindingMap = new Map();
-    callee.params.forEach((p, i) => {
-      if (p.isArray) return;
-      const first = calls[0][i];
-      if (first && calls.every((c) => c[i] && S.equals(c[i]!, first))) b.set(p.name, first);
-    });
-    out.set(name, b);
+  // Values flow down call chains (main's nx = 256 → run(nx) → sweep(nx)): each round substitutes
+  // the callers' bindings of the previous round, until nothing changes (a few rounds at most).
+  let out = new Map<string, BindingMap>();
+  for (let round = 0; round < MAX_CHAIN; round++) {
+    const seen = new Map<Procedure, (S.Expr | undefined)[][]>();
+    for (const c of calls) {
+      const local: BindingMap = new Map([...model.bindings, ...(out.get(c.caller.name) ?? []), ...c.caller.bindings]);
+      const list = seen.get(c.callee) ?? [];
+      list.push(c.values.map((e) => (e ? S.substitute(e, local) : undefined)));
+      seen.set(c.callee, list);
+    }
+    const next = new Map<string, BindingMap>();
+    for (const [callee, list] of seen) {
+      const b: BindingMap = new Map();
+      callee.params.forEach((p, i) => {
+        if (p.isArray) return;
+        const first = list[0][i];
+        // A parameter bound to its own name (`f(n)` inside a scope whose n is f's n) says nothing.
+        if (first && !S.equals(first, S.sym(p.name)) && list.every((c) => c[i] && S.equals(c[i]!, first))) b.set(p.name, first);
+      });
+      next.set(callee.name, b);
+    }
+    const stable = [...next].every(([k, b]) => sameBindings(b, out.get(k)));
+    out = next;
+    if (stable) break;
   }
   return out;
+}
+
+const MAX_CHAIN = 6;
+
+function sameBindings(a: BindingMap, b: BindingMap | undefined): boolean {
+  if (!b || a.size !== b.size) return false;
+  for (const [k, v] of a) if (!b.has(k) || !S.equals(v, b.get(k)!)) return false;
+  return true;
 }
 
 /** A quantity as the report shows it: the symbolic form, its value when bound, and what is unbound. */

@@ -18,7 +18,7 @@ import { calleesOf } from '../model/callees';
 import { type Region, covers, intersect, overlaps, regionSize, subtract, union, wholeBox } from './regions';
 import { regionSectionText, touchSectionText } from './slices';
 import { type LoopRanges, type Section, accessRegion, clauseSection, wholeBytes } from './sections';
-import { DataEnvironment } from './state';
+import { ArrayState, DataEnvironment } from './state';
 
 export type Cause = 'clause' | 'implicit' | 'update' | 'enter' | 'exit';
 
@@ -153,14 +153,38 @@ export class DataInterpreter {
     this.procs = procs ?? new Map(model.procedures.map((p) => [p.name, p]));
   }
 
-  runProcedure(proc: Procedure): void {
-    const frame: Frame = { proc, rename: new Map(), bindings: this.bindingsOf(proc), via: [], depth: 0 };
+  runProcedure(proc: Procedure, entry?: EntryState): void {
+    const bindings = new Map(this.bindingsOf(proc));
+    // Sizes the program passes at the call (`run(u, v, nx, ny)` with nx = 256 in main) bind the
+    // parameters the procedure's own call sites left open.
+    for (const [k, v] of entry?.bindings ?? []) if (!bindings.has(k) || S.evaluate(bindings.get(k)!, bindings) === undefined) bindings.set(k, v);
+    const frame: Frame = { proc, rename: new Map(), bindings, via: [], depth: 0 };
     this.afterLoop = undefined;
     this.root = frame;
     const ctx: Ctx = { frame, multiplier: S.num(1), everySteps: 1, hostRanges: new Map(), hostLoops: [], recording: false, ancestors: [] };
-    this.fileDeclarations(ctx);
+    if (entry) {
+      for (const [key, st] of entry.states) this.env.adopt(key, st);
+      this.outside.push(...entry.outside);
+    } else {
+      this.fileDeclarations(ctx);
+    }
     this.exec(proc.body, ctx);
   }
+
+  /**
+   * Runs the program from `root` until it calls `target`, and returns the data environment at
+   * that call in the target's own names: what its parameters and the globals are mapped to, the
+   * values its scalar parameters are given, and the enter/exit transfers made on the way. Time
+   * loops on the way run as ordinary loops. Undefined when the call is never reached.
+   */
+  entryAt(root: Procedure, target: Procedure): EntryState | undefined {
+    this.stopAt = target;
+    this.runProcedure(root);
+    return this.captured;
+  }
+
+  private stopAt?: Procedure;
+  private captured?: EntryState;
 
   /**
    * Declarations at file scope make global data present for the whole program: OpenACC
@@ -193,8 +217,47 @@ export class DataInterpreter {
   key(name: string, frame: Frame): string {
     const mapped = frame.rename.get(name);
     if (mapped) return mapped;
+    // A member (`f.data`, `f->data`, `this->u`) is keyed through its base: the standards map by
+    // host address, so `curr->data` in a callee is the caller's `current.data`.
+    const member = /^([A-Za-z_]\w*)(\.|->|%)(.+)$/.exec(name);
+    if (member) return `${this.key(member[1], frame)}${member[2] === '%' ? '%' : '.'}${member[3].replace(/->/g, '.')}`;
     if (frame.depth > 0 && frame.proc.locals.some((l) => l.name === name)) return `${frame.proc.name}::${name}`;
     return name;
+  }
+
+  /**
+   * Pointer assignment and swaps: `p = q` makes `p` name `q`'s storage from here on; a struct
+   * assignment does the same for every member. Returns true when the statement was an alias.
+   */
+  private alias(target: string, value: VExpr, ctx: Ctx): boolean {
+    const source = aliasSource(value);
+    if (!source) return false;
+    const frame = ctx.frame;
+    const targetIsArray = this.isArray(target, frame) && !isMember(target);
+    const sourceIsArray = this.isArray(source, frame) || isMember(source);
+    const structs = !targetIsArray && this.isStruct(target, frame) && this.isStruct(source, frame);
+    if (!(targetIsArray && sourceIsArray) && !structs) return false;
+    // Copy on write: touches recorded earlier keep the names they were made with.
+    frame.rename = new Map(frame.rename).set(target, this.key(source, frame));
+    return true;
+  }
+
+  /** A variable of a struct or class type (not a number, not an array): its members alias with it. */
+  private isStruct(name: string, frame: Frame): boolean {
+    const d = frame.proc.locals.find((x) => x.name === name) ?? frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+    return !!d && !d.isArray && d.type.name === 'unknown';
+  }
+
+  /** `std::swap(a, b)` (or an unresolved `swap`) of two pointers, containers or structs exchanges their storage. */
+  private swap(name: string, args: VExpr[], ctx: Ctx): boolean {
+    if (!/^(std::)?swap$/.test(name) || args.length !== 2 || calleesOf(this.model).resolve(name)) return false;
+    const [a, b] = args.map(aliasSource);
+    if (!a || !b) return false;
+    const frame = ctx.frame;
+    const ka = this.key(a, frame);
+    const kb = this.key(b, frame);
+    frame.rename = new Map(frame.rename).set(a, kb).set(b, ka);
+    return true;
   }
 
   /**
@@ -231,6 +294,9 @@ export class DataInterpreter {
   }
 
   private isArray(name: string, frame: Frame): boolean {
+    // Members are declared in a struct the model does not keep; one used with a subscript or in
+    // a data clause (the only places this is asked) is an array.
+    if (isMember(name)) return true;
     const d = frame.proc.locals.find((x) => x.name === name) ?? frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
     return !!d && d.isArray;
   }
@@ -239,6 +305,7 @@ export class DataInterpreter {
 
   private exec(stmts: Stmt[], ctx: Ctx): void {
     for (const s of stmts) {
+      if (this.captured) return;
       const here: Ctx = ctx.frame.depth === 0 && ctx.run && !ctx.anchorFixed ? { ...ctx, anchor: s } : ctx;
       this.stmt(s, here);
     }
@@ -288,8 +355,14 @@ export class DataInterpreter {
         this.withRange(s, inner, () => this.exec(s.body, { ...inner, hostLoops: [...inner.hostLoops, s], anchorFixed: true }));
         return;
       case 'call':
+        if (this.swap(s.name, s.args, ctx)) return;
         this.hostValues(s.args, s, ctx);
         this.call(s.name, s.args, s.range, ctx);
+        return;
+      case 'assign':
+        if (s.target.kind === 'var' && s.op === '=' && this.alias(s.target.name, s.value, ctx)) return;
+        this.hostAccesses(accessesOfStatement(s), s, ctx);
+        for (const v of valuesOfStatement(s)) this.callsIn(v, s.range, ctx);
         return;
       default:
         this.hostAccesses(accessesOfStatement(s), s, ctx);
@@ -409,8 +482,17 @@ export class DataInterpreter {
       if (!arg) return;
       if (p.isArray) {
         const base = arrayArgument(arg);
-        if (base && this.isArray(base, ctx.frame)) rename.set(p.name, this.key(base, ctx.frame));
+        // A pointer to a struct (`evolve(&current)`) names the caller's struct: its members follow.
+        if (base && (this.isArray(base, ctx.frame) || this.isStruct(base, ctx.frame))) rename.set(p.name, this.key(base, ctx.frame));
         return;
+      }
+      if (p.type.name === 'unknown' && !p.isArray) {
+        // A struct passed by reference (C++ `field &f`, Fortran derived types) aliases the caller's.
+        const base = aliasSource(arg);
+        if (base && this.isStruct(base, ctx.frame)) {
+          rename.set(p.name, this.key(base, ctx.frame));
+          return;
+        }
       }
       // Resolve the caller's own locals but keep the file's named sizes (`N`, not 48000000), so
       // that sections written from the callee's view still read like the source.
@@ -427,7 +509,39 @@ export class DataInterpreter {
       else bindings.set(p.name, value);
     });
     const frame: Frame = { proc: callee, rename, bindings, via: [...ctx.frame.via, at], depth: ctx.frame.depth + 1 };
+    if (callee === this.stopAt && !this.captured) {
+      this.captured = this.capture(frame);
+      return;
+    }
     this.exec(callee.body, { ...ctx, frame });
+  }
+
+  /** The environment as the callee of `frame` sees it: its parameters by their own names, globals as they are. */
+  private capture(frame: Frame): EntryState {
+    const states = new Map<string, ArrayState>();
+    const byKey = new Map<string, string>();
+    for (const [param, key] of frame.rename) byKey.set(key, param);
+    const globals = new Set(this.model.globals.map((g) => g.name));
+    for (const key of this.env.presentKeys()) {
+      const name = byKey.get(key) ?? (globals.has(key) ? key : undefined);
+      if (!name) continue;
+      const st = this.env.state(key);
+      // Presence and reference counts carry into the procedure; which side holds newer elements
+      // is kept only where the array's shape is the same in both (else the regions would not
+      // mean the same elements), and otherwise forgotten rather than guessed.
+      const copy = new ArrayState();
+      copy.structured = st.structured;
+      copy.dynamic = st.dynamic;
+      copy.allocation = st.allocation;
+      states.set(name, copy);
+    }
+    const bindings = new Map<string, S.Expr>();
+    for (const p of frame.proc.params) {
+      const v = frame.bindings.get(p.name);
+      if (v !== undefined && S.evaluate(v, frame.bindings) !== undefined) bindings.set(p.name, S.num(S.evaluate(v, frame.bindings)!));
+    }
+    const outside = this.outside.map((t) => ({ ...t, array: byKey.get(t.array) ?? t.array }));
+    return { states, bindings, outside };
   }
 
   // ---- device constructs ---------------------------------------------------------------
@@ -649,13 +763,22 @@ export class DataInterpreter {
     const origin = frame?.proc.origin;
     const at = origin && frame.via[0] ? frame.via[0] : range;
     const text = origin ? `In ${relativeToFile(this.model.path, origin)}, line ${range.start.line + 1} (reached from this call): ${message}` : message;
-    const id = `${code}:${at.start.line}:${at.start.col}:${array}:${origin ?? ''}:${range.start.line}`;
+    // Keyed by what the user reads, not by the storage: after a swap two storages can give the
+    // same finding at the same place.
+    const id = `${code}:${at.start.line}:${at.start.col}:${message}:${origin ?? ''}:${range.start.line}`;
     if (this.seenFindings.has(id)) return undefined;
     this.seenFindings.add(id);
     const f: Finding = { code, severity: code.startsWith('stale') ? 'error' : 'info', range: at, message: text, array };
     this.findings.push(f);
     return origin ? undefined : f;
   }
+}
+
+/** The data environment at the call that enters a time loop's procedure (see `entryAt`). */
+export interface EntryState {
+  states: Map<string, ArrayState>;
+  bindings: Map<string, S.Expr>;
+  outside: TransferRecord[];
 }
 
 interface EnteredClause {
@@ -674,6 +797,22 @@ function arrayArgument(e: VExpr): string | undefined {
     else if (x.kind === 'index') return x.access.array;
     else if (x.kind === 'bin' && (x.op === '+' || x.op === '-')) x = x.left;
     // C++ containers hand out their storage: `u.data()`, `u->data()`.
+    else if (x.kind === 'call' && x.args.length === 0 && /(\.|->)data$/.test(x.name)) return x.name.replace(/(\.|->)data$/, '');
+    else return undefined;
+  }
+}
+
+function isMember(name: string): boolean {
+  return /[.%]|->/.test(name) && !name.includes('::');
+}
+
+/** The storage a value names when assigned to a pointer: `q`, `s.q`, `&q[0]`, `(double *)q`, `q + 0`. */
+function aliasSource(e: VExpr): string | undefined {
+  let x = e;
+  for (;;) {
+    if (x.kind === 'var') return x.name;
+    if (x.kind === 'cast' || (x.kind === 'unary' && x.op === '&')) x = x.operand;
+    else if (x.kind === 'index' && x.access.subscripts.every((k) => k !== undefined && S.evaluate(k, new Map()) === 0)) return x.access.array;
     else if (x.kind === 'call' && x.args.length === 0 && /(\.|->)data$/.test(x.name)) return x.name.replace(/(\.|->)data$/, '');
     else return undefined;
   }
@@ -704,6 +843,8 @@ function deviceRanges(s: Stmt, bindings: ReadonlyMap<string, S.Expr>): LoopRange
 function describe(newer: Region, touched: Region, info: ArrayInfo): string {
   const n = regionSize(covers(newer, touched) ? touched : newer.filter((b) => overlaps([b], touched)));
   if (n === 1) return 'that element';
+  // A region whose size rests on an unbound extent has no count worth printing.
+  if (!Number.isFinite(n) || n >= 2 ** 48) return 'elements read here (how many depends on sizes the tool cannot bind)';
   return `${n.toLocaleString('en-US')} of the elements read here (${(n * info.elementBytes).toLocaleString('en-US')} bytes)`;
 }
 

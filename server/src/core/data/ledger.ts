@@ -4,6 +4,7 @@
  * keeps the arrays resident.
  */
 import { relativeToFile } from '../paths';
+import { entryRootOf } from './entry';
 import * as S from '../symbolic';
 import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
 import type { TimeLoop } from '../analysis/nests';
@@ -66,7 +67,11 @@ export function dataLedger(
   const procs = new Map(model.procedures.map((p) => [p.name, p]));
   for (const proc of new Set(outer.map((t) => t.procedure))) {
     const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides, procs);
-    interp.runProcedure(proc);
+    // The program before the call into this procedure (an allocation routine's enter data, a
+    // set-up routine's update) is the time loop's starting state; run it first, time loops off.
+    const root = entryRootOf(model, proc);
+    const entry = root ? new DataInterpreter(model, new Set(), bindingsOf, nestStrides, procs).entryAt(root, proc) : undefined;
+    interp.runProcedure(proc, entry);
     attachCoherenceFixes(interp, model, text, family);
     findings.push(...interp.findings);
     const bindings = bindingsOf(proc);

@@ -52,6 +52,12 @@ export class DataEnvironment {
     s.hostNewer = [];
   }
 
+  /** Takes over an array's state from another run (the program before a call); allocation ids stay unique. */
+  adopt(key: string, state: ArrayState): void {
+    this.arrays.set(key, state);
+    this.nextAllocation = Math.max(this.nextAllocation, state.allocation + 1);
+  }
+
   presentKeys(): string[] {
     return [...this.arrays].filter(([, s]) => s.present).map(([k]) => k);
   }

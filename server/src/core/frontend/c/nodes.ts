@@ -35,8 +35,9 @@ export function operatorOf(n: Node): string {
 /** Strips redundant parentheses around an expression node. */
 export function unparen(n: Node): Node {
   let cur = n;
-  while (cur.type === 'parenthesized_expression') {
-    const inner = namedChildren(cur)[0];
+  // C++ wraps `if`/`while` conditions in a condition_clause (its `value`, or a declaration).
+  while (cur.type === 'parenthesized_expression' || cur.type === 'condition_clause') {
+    const inner = cur.type === 'condition_clause' ? field(cur, 'value') ?? namedChildren(cur).slice(-1)[0] : namedChildren(cur)[0];
     if (!inner) break;
     cur = inner;
   }
