@@ -48,6 +48,7 @@ export function formatFile(a: FileAnalysis): string {
     for (const [x, at] of assumed) lines.push(`  assumed (line${at.length === 1 ? '' : 's'} ${at.join(', ')}): ${x}`);
   }
   for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
+  for (const r of a.notTimeLoops) lines.push(`  not a time loop: line ${r.loop.keywordRange.start.line + 1} (${r.loop.variable ?? 'while'} in ${r.procedure.name}): ${r.reason}`);
   if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.nests[0].estimate?.baseline === 'core' ? 'one-core' : 'whole-node'} baseline; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
   for (const f of a.findings) {
     lines.push(`  ${a.path}:${f.range.start.line + 1}:${f.range.start.col + 1}: ${f.severity} [${f.code}] ${f.message}`);
@@ -67,10 +68,13 @@ function bytes(q: Quantity): string {
 /** The per-step ledger of one time loop: totals, each transfer, and the suggested data region. */
 function formatTimeLoop(t: TimeLoopReport): string[] {
   const loop = t.timeLoop.loop;
-  const head = `  time loop at line ${loop.keywordRange.start.line + 1} (${loop.variable ?? 'while'}, ${formatQuantity(t.steps)} steps)`;
+  const head = `  time loop at line ${loop.keywordRange.start.line + 1} (${loop.variable ?? 'while'}, ${stepsText(t)})`;
   const l = t.ledger;
   if (!l) return [`${head}: inside another time loop, counted there`];
-  const out = [`${head}: per step ${bytes(l.perStep.toDevice)} to device, ${bytes(l.perStep.toHost)} to host; once ${bytes(l.once.toDevice)} in, ${bytes(l.once.toHost)} out`];
+  const why = `    ${t.timeLoop.marked ? 'marked as the time loop' : 'taken as the time loop'}: ${t.timeLoop.reason}${loop.tripCountIsBound ? `; the step count is an upper bound: ${atMostBecause(t)}` : ''}`;
+  const count = l.transfersPerStep > 0 ? ` (${fmt(l.transfersPerStep)} transfer${l.transfersPerStep === 1 ? '' : 's'} per step)` : '';
+  const out = [`${head}: per step ${bytes(l.perStep.toDevice)} to device, ${bytes(l.perStep.toHost)} to host${count}; once ${bytes(l.once.toDevice)} in, ${bytes(l.once.toHost)} out`];
+  out.push(why);
   if (l.transfers.length > 0) {
     const rows = [['line', 'array', 'direction', 'bytes', 'every', 'cause']];
     for (const x of l.transfers) {
@@ -92,6 +96,17 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
     for (const n of r.notes) out.push(`    note: ${n}`);
   }
   return out;
+}
+
+/** `2,000 (ITER_MAX) steps`, or `at most …` when the count is an upper bound. */
+function stepsText(t: TimeLoopReport): string {
+  return `${t.timeLoop.loop.tripCountIsBound ? 'at most ' : ''}${formatQuantity(t.steps)} steps`;
+}
+
+/** What can end the loop before its count: the other tests and exits the step-counter pass found. */
+function atMostBecause(t: TimeLoopReport): string {
+  const exits = t.timeLoop.loop.counter?.otherExits ?? [];
+  return `${exits.length > 0 ? exits.join(' or ') : 'a `break` or `exit`'} may end the loop earlier`;
 }
 
 function spread(s: { low: number; high: number }): string {

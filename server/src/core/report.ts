@@ -2,7 +2,7 @@
  * Builds the machine-readable report (shared/contracts/report.schema.json) from analyses.
  * Lines and columns become 1-based here and nowhere else in the core.
  */
-import type { FileAnalysis } from './analyze';
+import type { FileAnalysis, TimeLoopReport } from './analyze';
 import type { Quantity } from './analysis/bindings';
 import type { Finding } from './types';
 import type { TimeLoopLedger } from './data/ledger';
@@ -47,8 +47,27 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
         ...(r.estimate ? { estimate: nestEstimateJson(r.estimate) } : {}),
       };
     }),
-    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => ({ ...timeLoopJson(t.ledger!), ...(t.estimate ? { estimate: stepEstimateJson(t.estimate) } : {}) })),
+    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => ({ ...timeLoopJson(t.ledger!), ...timeLoopWhy(t), ...(t.estimate ? { estimate: stepEstimateJson(t.estimate) } : {}) })),
+    ...(a.notTimeLoops.length > 0
+      ? { notTimeLoops: a.notTimeLoops.map((r) => ({ line: r.loop.keywordRange.start.line + 1, function: r.procedure.name, variable: r.loop.variable ?? '', reason: r.reason })) }
+      : {}),
     findings: a.findings.map(jsonFinding),
+  };
+}
+
+/**
+ * Why the loop is the time loop, and how its steps are known: `stepsAtMost` when the count is an
+ * upper bound (`while (err > tol && iter < iter_max)`), the step counter a while loop was read
+ * with, and `marked` when the user named the loop. Additions to the schema's time-loop object.
+ */
+function timeLoopWhy(t: TimeLoopReport): Record<string, unknown> {
+  const loop = t.timeLoop.loop;
+  const c = loop.counter;
+  return {
+    ...(loop.tripCountIsBound ? { stepsAtMost: true } : {}),
+    reason: t.timeLoop.reason,
+    ...(t.timeLoop.marked ? { marked: t.timeLoop.marked } : {}),
+    ...(c ? { counter: { name: c.name, line: c.incrementRange.start.line + 1, ...(c.boundText ? { bound: c.boundText } : {}), ...(c.otherExits.length > 0 ? { otherExits: c.otherExits } : {}) } } : {}),
   };
 }
 
@@ -70,7 +89,9 @@ function timeLoopJson(l: TimeLoopLedger): Record<string, unknown> {
       bytes: jsonQuantity(t.bytes),
       everySteps: t.everySteps,
       cause: t.cause,
+      ...(t.scalar ? { scalar: true } : {}),
     })),
+    blockingTransfersPerStep: round(l.transfersPerStep),
     dataRegion: l.dataRegion
       ? {
           clauses: l.dataRegion.clauses.map((c) => (c.section ? { array: c.array, clause: c.clause, section: c.section } : { array: c.array, clause: c.clause })),

@@ -39,6 +39,8 @@ export interface TransferRecord {
   at?: Range;
   /** The file of the directive when it is in another file of the workspace. */
   origin?: string;
+  /** A scalar (a reduction result, a scalar in a data clause or a kernels construct): small, but each is a blocking transfer. */
+  scalar?: boolean;
 }
 
 /** A host access inside the time loop to an array the device also uses. */
@@ -94,6 +96,8 @@ export interface TimeLoopRun {
   /** Peak bytes resident on the device during the loop (null when a size is unbound). */
   residentPeak: number | null;
   residentArrays: Set<string>;
+  /** Pointers that hold device addresses (acc_malloc, omp_target_alloc, deviceptr, is_device_ptr): never copied, never in a region. */
+  devicePointers: Set<string>;
 }
 
 interface Frame {
@@ -142,6 +146,8 @@ export class DataInterpreter {
   private readonly infos = new Map<string, ArrayInfo>();
   private readonly procs: Map<string, Procedure>;
   private readonly seenFindings = new Set<string>();
+  /** Keys of pointers holding device addresses (OpenACC 3.3 §2.7.4 deviceptr; OpenMP 5.2 is_device_ptr, omp_target_alloc). */
+  readonly devicePointers = new Set<string>();
 
   constructor(
     private readonly model: ProgramModel,
@@ -361,6 +367,10 @@ export class DataInterpreter {
         return;
       case 'assign':
         if (s.target.kind === 'var' && s.op === '=' && this.alias(s.target.name, s.value, ctx)) return;
+        if (s.target.kind === 'var' && isDeviceAllocation(s.value)) {
+          this.devicePointers.add(this.key(s.target.name, ctx.frame));
+          return;
+        }
         this.hostAccesses(accessesOfStatement(s), s, ctx);
         for (const v of valuesOfStatement(s)) this.callsIn(v, s.range, ctx);
         return;
@@ -406,6 +416,7 @@ export class DataInterpreter {
       loop, procedure: ctx.frame.proc, transfers: [], liveAtEntry: new Map(), presentAtEntry: new Set(),
       needsHostValues: new Set(), deviceWritten: new Map(), deviceReads: new Set(), deviceWrites: new Set(), deviceUsed: new Set(),
       hostTouches: [], neededAfter: new Set(), residentPeak: 0, residentArrays: new Set(), kernels: [], hostNests: [],
+      devicePointers: this.devicePointers,
     };
     for (const k of this.env.presentKeys()) {
       run.presentAtEntry.add(k);
@@ -442,6 +453,7 @@ export class DataInterpreter {
     for (const a of accesses) {
       if (!this.isArray(a.array, ctx.frame)) continue;
       const key = this.key(a.array, ctx.frame);
+      if (this.devicePointers.has(key)) continue;
       const info = this.info(key, ctx.frame, a.array);
       const region = accessRegion(a, info, ctx.hostRanges, ctx.frame.bindings);
       const st = this.env.state(key);
@@ -553,6 +565,7 @@ export class DataInterpreter {
   private compute(s: Stmt, d: Directive, ctx: Ctx): void {
     if (ctx.run && ctx.recording) ctx.run.kernels.push(this.execution(s, ctx));
     const entered = this.enterClauses(d, ctx, 'clause', true);
+    for (const e of dataEntries(d)) if (e.action === 'deviceptr') this.devicePointers.add(this.key(e.ref.name, ctx.frame));
     const named = new Set(dataEntries(d).map((e) => this.key(e.ref.name, ctx.frame)));
     const privates = privateNames(d);
     const mode = defaultMode(d);
@@ -564,6 +577,7 @@ export class DataInterpreter {
       for (const a of accessesOfStatement(x)) {
         if (!this.isArray(a.array, ctx.frame) || privates.has(a.array)) continue;
         const key = this.key(a.array, ctx.frame);
+        if (this.devicePointers.has(key)) continue;
         const info = this.info(key, ctx.frame, a.array);
         const region = accessRegion(a, info, ranges, ctx.frame.bindings);
         if (a.isRead) reads.set(key, union(reads.get(key) ?? [], region));
@@ -617,6 +631,7 @@ export class DataInterpreter {
       st.deviceNewer = union(st.deviceNewer, region);
       st.hostNewer = subtract(st.hostNewer, region);
     }
+    this.scalarTransfers(s, d, ctx);
     this.notePeak(ctx);
     for (const imp of implicit.reverse()) {
       const st = this.env.state(imp.key);
@@ -627,6 +642,54 @@ export class DataInterpreter {
       }
     }
     this.exitClauses(d, entered, ctx, 'clause', true);
+  }
+
+  /**
+   * Scalars a compute construct moves: a reduction result comes back to the host (OpenACC 3.3
+   * §2.6.2: a reduction scalar of a loop in the construct is copied; OpenMP 5.2: a reduction on a
+   * combined target construct maps the variable tofrom), a scalar in a copy/map clause moves as
+   * written, and a scalar the construct writes inside `kernels` is copied (OpenACC 3.3 §2.6.2).
+   * Each is a few bytes, but each is a blocking transfer per launch. Read-only scalars of
+   * `kernels` are left out: compilers pass them by value (common practice).
+   */
+  private scalarTransfers(s: Stmt, d: Directive, ctx: Ctx): void {
+    const isScalar = (name: string): boolean => {
+      const decl = ctx.frame.proc.locals.find((x) => x.name === name) ?? ctx.frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+      return !!decl && !decl.isArray && decl.type.name !== 'unknown';
+    };
+    const bytesOf = (name: string): number => {
+      const decl = ctx.frame.proc.locals.find((x) => x.name === name) ?? ctx.frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+      return decl?.type.bytes ?? 8;
+    };
+    const moved = new Map<string, { toDevice: boolean; toHost: boolean }>();
+    const add = (name: string, toDevice: boolean, toHost: boolean): void => {
+      const m = moved.get(name) ?? { toDevice: false, toHost: false };
+      moved.set(name, { toDevice: m.toDevice || toDevice, toHost: m.toHost || toHost });
+    };
+    const directives: Directive[] = [d];
+    walkStatements([s], (x) => { directives.push(...x.directives.filter((y) => y !== d)); });
+    for (const dir of directives) {
+      for (const c of dir.clauses) if (c.canonical === 'reduction') for (const v of c.vars ?? []) if (isScalar(v.name)) add(v.name, true, true);
+    }
+    for (const e of dataEntries(d)) {
+      if (!isScalar(e.ref.name)) continue;
+      if (e.action === 'copy') add(e.ref.name, true, true);
+      else if (e.action === 'copyin') add(e.ref.name, true, false);
+      else if (e.action === 'copyout') add(e.ref.name, false, true);
+    }
+    if (d.family === 'openacc' && d.construct.startsWith('kernels')) {
+      const privates = privateNames(d);
+      walkStatements([s], (x) => {
+        if (x.kind === 'assign' && x.target.kind === 'var' && isScalar(x.target.name) && !privates.has(x.target.name) && !loopVariables(s).has(x.target.name)) add(x.target.name, true, true);
+      });
+    }
+    for (const [name, m] of moved) {
+      const key = this.key(name, ctx.frame);
+      if (this.env.state(key).present) continue;
+      const bytes = S.num(bytesOf(name));
+      if (m.toDevice) this.transfer(ctx, d.range, key, 'toDevice', bytes, 'implicit', 0, true, undefined, true);
+      if (m.toHost) this.transfer(ctx, d.range, key, 'toHost', bytes, 'implicit', 0, true, undefined, true);
+    }
   }
 
   private enterRegion(d: Directive, ctx: Ctx): EnteredClause[] {
@@ -729,10 +792,10 @@ export class DataInterpreter {
 
   // ---- records -------------------------------------------------------------------------
 
-  private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean, at?: Range): void {
+  private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean, at?: Range, scalar?: boolean): void {
     const rec: TransferRecord = {
       range, array, direction, bytes: S.mul(bytes, ctx.multiplier), everySteps: ctx.everySteps, cause,
-      via: ctx.frame.via, allocation, whole, at, origin: ctx.frame.proc.origin,
+      via: ctx.frame.via, allocation, whole, at, origin: ctx.frame.proc.origin, ...(scalar ? { scalar } : {}),
     };
     if (ctx.run) {
       if (ctx.recording) ctx.run.transfers.push(rec);
@@ -800,6 +863,20 @@ function arrayArgument(e: VExpr): string | undefined {
     else if (x.kind === 'call' && x.args.length === 0 && /(\.|->)data$/.test(x.name)) return x.name.replace(/(\.|->)data$/, '');
     else return undefined;
   }
+}
+
+/** Calls that return device memory: the pointer holds a device address (OpenACC 3.3 acc_malloc; OpenMP 5.2 omp_target_alloc). */
+function isDeviceAllocation(e: VExpr): boolean {
+  let x = e;
+  while (x.kind === 'cast') x = x.operand;
+  return x.kind === 'call' && /^(acc_malloc|omp_target_alloc(_device|_shared|_host)?|acc_create|acc_copyin)$/.test(x.name);
+}
+
+/** Induction variables of the loops in a statement (private by rule in both standards). */
+function loopVariables(s: Stmt): Set<string> {
+  const out = new Set<string>();
+  walkStatements([s], (x) => { if (x.kind === 'loop' && x.variable) out.add(x.variable); });
+  return out;
 }
 
 function isMember(name: string): boolean {

@@ -32,6 +32,8 @@ export interface TransferReport {
   bytesExpr: S.Expr;
   everySteps: number;
   cause: TransferRecord['cause'];
+  /** A scalar (reduction result, scalar clause): a blocking transfer of a few bytes. */
+  scalar?: boolean;
 }
 
 export interface TimeLoopLedger {
@@ -44,6 +46,8 @@ export interface TimeLoopLedger {
   dataRegion: DataRegionSuggestion | null;
   /** Bytes resident on the device at the peak (null when unbound). */
   residentBytes: number | null;
+  /** Transfers per step (each a synchronising copy; one every K steps counts 1/K): latency, not bandwidth, prices small ones. */
+  transfersPerStep: number;
   run: TimeLoopRun;
 }
 
@@ -79,6 +83,7 @@ export function dataLedger(
       const steps = quantity(run.loop.tripCount ?? S.sym(`trips_L${run.loop.keywordRange.start.line + 1}`), bindings);
       const transfers = run.transfers.map((t) => ({
         range: t.range, at: t.at, origin: t.origin, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
+        ...(t.scalar ? { scalar: true } : {}),
       }));
       const perStep = (dir: 'toDevice' | 'toHost'): Quantity => perStepQuantity(run.transfers.filter((t) => t.direction === dir), bindings);
       const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit'));
@@ -87,6 +92,7 @@ export function dataLedger(
       const ledger: TimeLoopLedger = {
         loop: run.loop, procedure: run.procedure, steps, perStep: { toDevice: perStep('toDevice'), toHost: perStep('toHost') },
         once: { toDevice: once('toDevice'), toHost: once('toHost') }, transfers, dataRegion, residentBytes: run.residentPeak, run,
+        transfersPerStep: run.transfers.reduce((n, t) => n + 1 / t.everySteps, 0),
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
@@ -139,7 +145,15 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
       : t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
     // A directive in another file is reported at the call in this file that reaches it.
     const place = (r: Range): Range => (t0.origin && t0.via[0] ? t0.via[0] : r);
-    if (t0.cause === 'implicit') {
+    if (t0.scalar) {
+      // A scalar the construct must hand back (a reduction result) or that kernels copies: a
+      // data region does not remove it, so the note is about latency, not about residency.
+      const n = ts.length;
+      out.push({
+        code: 'transfer-in-time-loop', severity: 'info', range: place(t0.range), array: t0.array,
+        message: `The scalar \`${t0.array}\`${sizeText} is ${how} ${every} by this construct (a reduction result or a scalar it writes; OpenACC 3.3 §2.6.2, OpenMP 5.2 §5.8.1)${via}: ${amounts} in ${n} blocking transfer${n === 1 ? '' : 's'}. Few bytes, but each waits for the link's latency; where the host needs the value only now and then, keep it on the device and update it when needed.`,
+      });
+    } else if (t0.cause === 'implicit') {
       out.push({
         code: 'implicit-transfer', severity: 'warning', range: place(t0.range), array: t0.array,
         message: `\`${t0.array}\`${sizeText} is named in no data clause and is not present, so this construct ${how === 'copied to the device and back' ? 'copies it to the device and back' : how.replace('copied', 'copies it')} ${every} by the implicit rules (OpenACC 3.3 §2.6.2: aggregates are copied; OpenMP 5.2 §5.8.1: map(tofrom))${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,

@@ -72,7 +72,7 @@ export function suggestDataRegion(
   infoOf: (key: string) => ArrayInfo | undefined,
 ): DataRegionSuggestion | null {
   const lang = model.language;
-  const candidates = [...run.deviceUsed].filter((k) => !k.includes('::') && !run.presentAtEntry.has(k) && !infoOf(k)?.isScalar).sort();
+  const candidates = [...run.deviceUsed].filter((k) => !k.includes('::') && !run.presentAtEntry.has(k) && !run.devicePointers.has(k) && !infoOf(k)?.isScalar).sort();
   if (candidates.length === 0) return null;
   const escapes = (k: string): boolean => {
     const d = infoOf(k)?.decl;
