@@ -351,6 +351,13 @@ export class DataInterpreter {
           this.timeLoop(s, ctx);
           return;
         }
+        // A loop with no trips at the bound sizes (`for (k = nk_gpu; k < nk; k++)` with the whole
+        // range on the device) touches nothing: its body is not run.
+        if (s.lower && s.upper) {
+          const lo = S.evaluate(s.lower, ctx.frame.bindings);
+          const hi = S.evaluate(s.upper, ctx.frame.bindings);
+          if (lo !== undefined && hi !== undefined && hi < lo) return;
+        }
         if (this.containsDeviceWork(s)) {
           const trips = s.tripCount ?? S.sym(`trips_L${s.keywordRange.start.line + 1}`);
           const next: Ctx = { ...inner, multiplier: S.mul(ctx.multiplier, trips) };
