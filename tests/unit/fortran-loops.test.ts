@@ -44,7 +44,9 @@ describe('DO loops (loops.f90)', () => {
       '  a(1, k) = real(k)',
       '  other continue',
       'k = 0',
-      'do (no variable)',
+      // The bare DO has a step counter: k = 0 before it, k = k + 1 first, exit once k > n, so
+      // the exit test sees k = 1 … n + 1: n + 1 passes (hand count; model/stepCounters.ts).
+      'do k = 0, n (trips n + 1)',
       '  k = k + 1',
       '  if k > n',
       '    other exit',
@@ -55,8 +57,8 @@ describe('DO loops (loops.f90)', () => {
     const b = new Map([['n', S.num(100)], ['m', S.num(7)]]);
     const trips = all.map((l) => (l.tripCount ? S.evaluate(l.tripCount, b) : undefined));
     // n = 100: 100, 100, INT((100 - 1 + 3)/3) = 34, 0 (10 > 1), while: none, m = 7, j (triangular),
-    // do concurrent INT((99 - 2 + 2)/2) = 49, labelled 7, bare do: none.
-    expect(trips).toEqual([100, 100, 34, 0, undefined, 7, undefined, 7, 49, 7, undefined]);
+    // do concurrent INT((99 - 2 + 2)/2) = 49, labelled 7, bare do with its counter k: n + 1 = 101.
+    expect(trips).toEqual([100, 100, 34, 0, undefined, 7, undefined, 7, 49, 7, 101]);
   });
 
   it('gives the `do` keyword as keywordRange and the whole construct as range', () => {
@@ -96,12 +98,31 @@ describe('DO loops (loops.f90)', () => {
     expect(textAt(text, labelled.range)).toBe('do 40 k = 1, m\n    a(1, k) = real(k)\n40 continue');
   });
 
-  it('leaves while loops and bare DO loops without variable and trip count', () => {
-    for (const line of [21, 38]) {
-      const [l] = byLine(line);
-      expect([l.variable, l.lower, l.upper, l.tripCount]).toEqual([undefined, undefined, undefined, undefined]);
-      expect(l.header.startsWith('do')).toBe(true);
-    }
+  it('leaves a while loop without a step counter without variable and bounds; its count is a named symbol', () => {
+    // `s = s + 1.0` steps a real, which is no counter: the count stays a symbol named after the
+    // procedure and the loop's rank in it, so a binding survives lines added above it.
+    const [l] = byLine(21);
+    expect([l.variable, l.lower, l.upper]).toEqual([undefined, undefined, undefined]);
+    expect(l.tripSymbol).toBe('trips_loops_1');
+    expect(S.toString(l.tripCount!)).toBe('trips_loops_1');
+    expect(l.header.startsWith('do')).toBe(true);
+  });
+
+  it('reads the step counter of a bare DO that leaves through exit', () => {
+    const [l] = byLine(38);
+    expect(l.variable).toBe('k');
+    // The exit test bounds the count; the model names both C `break` and Fortran `exit` 'break'.
+    expect(l.counter?.boundFrom).toBe('break');
+    expect(l.counter?.boundText).toBe('k > n');
+    expect(l.tripCountIsBound).toBeUndefined();
+  });
+
+  it('marks a counted loop with an exit of its own as an upper bound', () => {
+    // `exit inner` may leave the inner loop early (Fortran 2008 §8.1.10, from memory).
+    const [inner] = byLine(25);
+    expect(inner.tripCountIsBound).toBe(true);
+    // `cycle outer` only ends a pass of the outer loop early; its count stays exact.
+    expect(byLine(24)[0].tripCountIsBound).toBeUndefined();
   });
 
   it('declares the dummy arguments in argument order', () => {

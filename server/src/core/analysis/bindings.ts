@@ -7,6 +7,7 @@ import * as S from '../symbolic';
 import type { Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { forEachCallInValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
 import { calleesOf } from '../model/callees';
+import { legacyTripSymbols } from '../model/stepCounters';
 
 export type BindingMap = Map<string, S.Expr>;
 
@@ -18,6 +19,13 @@ export function procedureBindings(model: ProgramModel, proc: Procedure | undefin
     for (const [k, v] of proc.bindings) out.set(k, v);
   }
   for (const [k, v] of user) for (const key of userKeys(model, k)) out.set(key, S.num(v));
+  // A binding written for the old line-based name of a loop's count (`trips_L20`) still binds
+  // the loop, now named after its counter or procedure (model/stepCounters.ts).
+  const legacy = [...user.keys()].some((k) => /^trips_l\d+$/i.test(k)) ? legacyTripSymbols(model) : undefined;
+  for (const [k, v] of user) {
+    const name = legacy?.get(k.replace(/^trips_l/i, 'trips_L'));
+    if (name && !user.has(name)) out.set(name, S.num(v));
+  }
   return out;
 }
 

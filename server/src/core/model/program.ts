@@ -96,6 +96,45 @@ export interface LoopStmt extends StmtBase {
    * so `keywordRange` is the statement's range.
    */
   implied?: boolean;
+  /**
+   * The test that keeps a loop without counted bounds going, as written: C `while (c)`,
+   * `do … while (c)` and a `for (…; c; …)` header without an update; Fortran `do while (c)`.
+   * Absent for `for (;;)` and a bare Fortran `do`.
+   */
+  condition?: VExpr;
+  /** Set for C `do … while (c)`: the test runs after each pass through the body. */
+  testAfterBody?: boolean;
+  /** The header's own initialisation when the header has no update (`for (it = 0; it < n;)`). */
+  initial?: { name: string; value: Expr };
+  /** The step counter the model pass found (model/stepCounters.ts); `variable` is then its name. */
+  counter?: StepCounter;
+  /**
+   * Set when `tripCount` is an upper bound, not the count: the loop may stop earlier on another
+   * test (`while (err > tol && iter < iter_max)`, a `break`). Reports say "at most".
+   */
+  tripCountIsBound?: boolean;
+  /**
+   * The name of the symbol that stands for a trip count no header gives (`steps_iter`,
+   * `trips_main_1`); `tripCount` is then that symbol, so a user binding gives it a value.
+   */
+  tripSymbol?: string;
+  /** Set when our annotation comment (`offload-ledger: time-loop`) marks this loop as the time loop. */
+  markedTimeLoop?: boolean;
+}
+
+/** A scalar incremented by one exactly once per iteration of a loop that has no counted header. */
+export interface StepCounter {
+  name: string;
+  /** Its value when the loop starts, from the assignment before the loop; absent when unknown. */
+  start?: Expr;
+  /** The increment statement (`iter++`, `it = it + 1`). */
+  incrementRange: Range;
+  /** Where the count or its bound comes from: a test in the header or an `if (…) break`. */
+  boundFrom?: 'condition' | 'break';
+  /** The test that bounds the count, as written (`iter < iter_max`). */
+  boundText?: string;
+  /** Other ways the loop can end early, in words (`the test err > tol`, `a break at line 40`). */
+  otherExits: string[];
 }
 
 export interface AssignStmt extends StmtBase {

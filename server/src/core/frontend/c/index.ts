@@ -17,6 +17,8 @@ import { type MacroDef, type Preprocessed, preprocess } from '../../preprocessor
 import { type Node, field, namedChildren, rangeOf } from './nodes';
 import { CStatementBuilder } from './statements';
 import { TemplateUses, TypeAliases } from './templates';
+import { readStepCounters } from '../../model/stepCounters';
+import { markedLoopLines } from '../annotations';
 
 /**
  * `source` is the preprocessed text (inactive branches blanked, same lines and columns) with the
@@ -35,6 +37,7 @@ export function buildCModel(parser: Parser, source: string | Preprocessed, path:
     tree.delete();
   }
   model.directives.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
+  readStepCounters(model, markedLoopLines(text, language));
   return model;
 }
 

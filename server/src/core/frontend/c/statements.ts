@@ -190,8 +190,15 @@ export class CStatementBuilder {
       case 'for_range_loop':
         return [this.loopWithoutBounds(n, field(n, 'declarator')?.text, field(n, 'body'))];
       case 'while_statement':
-      case 'do_statement':
-        return [this.loopWithoutBounds(n, undefined, field(n, 'body'))];
+      case 'do_statement': {
+        const loop = this.loopWithoutBounds(n, undefined, field(n, 'body'));
+        // The test is kept for the step-counter pass (model/stepCounters.ts), which reads the
+        // counter and the bound of `while (err > tol && iter < iter_max)` from it.
+        const cond = field(n, 'condition');
+        if (cond) loop.condition = this.ctx.exprs.value(unparen(cond));
+        if (n.type === 'do_statement') loop.testAfterBody = true;
+        return [loop];
+      }
       case 'if_statement': {
         const cond = field(n, 'condition');
         const condNode = cond ? unparen(cond) : undefined;
@@ -317,7 +324,18 @@ export class CStatementBuilder {
     if (variable) {
       this.ctx.declare({ name: variable, type: { name: 'int', bytes: 4, isFloat: false }, dims: [], isPointer: false, isArray: false, isConst: false, scope: 'local', range: loop.range });
     }
-    const cond = readCondition(field(n, 'condition'), variable, this.ctx.exprs);
+    const condNode = field(n, 'condition');
+    const whole = readCondition(condNode, variable, this.ctx.exprs);
+    // `for (it = 0; err > tol && it < n; it++)`: a conjunct bounds the count from above.
+    const part = whole ? undefined : conjuncts(condNode).map((c) => readCondition(c, variable, this.ctx.exprs)).find((c) => c && (c.op === '<' || c.op === '<=' || c.op === '>' || c.op === '>='));
+    const cond = whole ?? part;
+    if (!stepInfo) {
+      // No update in the header (`for (;;)`, `for (; it < n;)`): a while loop in other words,
+      // whose counter, if any, is stepped in the body.
+      loop.variable = undefined;
+      if (condNode) loop.condition = this.ctx.exprs.value(unparen(condNode));
+      if (init) loop.initial = { name: init.variable, value: init.start };
+    }
     if (init && stepInfo && cond && variable && init.variable === stepInfo.variable) {
       const increasing = stepInfo.sign > 0;
       const bound = cond.bound;
@@ -332,6 +350,7 @@ export class CStatementBuilder {
         loop.upper = upper;
         loop.step = stepInfo.step;
         loop.tripCount = S.tripCount(lower, upper, stepInfo.step);
+        if (part) loop.tripCountIsBound = true;
         const mentioned = new Set([...S.freeSymbols(lower), ...S.freeSymbols(upper)]);
         loop.triangular = this.loopVars.some((v) => mentioned.has(v)) || undefined;
       }
@@ -422,6 +441,14 @@ function signed(variable: string, delta: S.Expr): { variable: string; step: S.Ex
   if (c === undefined) return { variable, step: delta, sign: 1 };
   if (c === 0) return undefined;
   return c > 0 ? { variable, step: S.num(c), sign: 1 } : { variable, step: S.num(-c), sign: -1 };
+}
+
+/** The operands of a `&&` chain (one node when the condition is not a conjunction). */
+function conjuncts(node: Node | undefined): Node[] {
+  if (!node) return [];
+  const n = unparen(node);
+  if (n.type === 'binary_expression' && operatorOf(n) === '&&') return [...conjuncts(field(n, 'left')), ...conjuncts(field(n, 'right'))];
+  return [n];
 }
 
 const mirror: Record<string, string> = { '<': '>', '<=': '>=', '>': '<', '>=': '<=', '!=': '!=' };

@@ -14,7 +14,11 @@ import type { ModuleFinder } from './modules';
 import { type FortranLinks, emptyFortranModel, readFortranInto } from './reader';
 import type { Preprocessed } from '../../preprocessor';
 
-export { isFixedFormPath } from './source';
+import { isFixedFormPath } from './source';
+import { readStepCounters } from '../../model/stepCounters';
+import { markedLoopLines } from '../annotations';
+
+export { isFixedFormPath };
 
 /**
  * The model of one file. `findModule` gives the modules that other files of the workspace
@@ -32,6 +36,11 @@ export function buildFortranModel(text: string, path: string, pp?: Preprocessed,
     // The reader is written not to throw; if it ever does, what was built so far is kept.
   }
   model.directives.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
+  try {
+    readStepCounters(model, markedLoopLines(pp?.text ?? source, 'fortran', isFixedFormPath(path)));
+  } catch {
+    // The pass is written not to throw; the counters are only left unread if it does.
+  }
   setWorkspaceLinks(model, { ...links, relink: (find) => buildFortranModel(source, path, pp, find) });
   return model;
 }

@@ -105,6 +105,12 @@ export function doHeader(line: Line, ctx: UnitContext): LoopHeader {
       setBounds(loop, v(parts[0]), v(parts[1]), parts[2] ? v(parts[2]) : undefined, ctx);
     }
   }
-  // `do while (…)` and a bare `do` have no induction variable and no trip count.
+  // `do while (…)` and a bare `do` have no induction variable and no trip count; the test of
+  // `do while` is kept for the step-counter pass (model/stepCounters.ts).
+  const w = merged === 'while' ? i : word === 'while' ? i + 1 : -1;
+  if (w >= 0 && isOp(toks[w], '(')) {
+    const close = closeOf(toks, w);
+    if (close > w + 1) loop.condition = value(line, ctx, w + 1, close);
+  }
   return { loops: [loop], label };
 }
