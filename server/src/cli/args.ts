@@ -12,6 +12,8 @@ export interface CommonArgs {
   profile?: string;
   baseline: 'node' | 'core';
   machines?: string;
+  /** `--time-loop VAR`: loop variables (or step counters) that name time loops. */
+  timeLoopVariables: string[];
 }
 
 export interface CheckArgs extends CommonArgs {
@@ -52,6 +54,8 @@ options:
   --format text|json|sarif|html  output (default text; json follows the published report schema; sarif is
                            SARIF 2.1.0; html is the planning report with charts, one self-contained page)
   --bind NAME=VALUE        give a size symbol a value, e.g. --bind NX=600 (repeatable)
+  --time-loop VAR          take the loops whose variable or step counter is VAR as time loops (repeatable;
+                           one loop: a comment "offload-ledger: time-loop" on the line before it)
   -D, --define NAME[=VAL]  define a preprocessor macro for the analysis, as the compiler's -D (repeatable)
   -U, --undefine NAME      undefine a macro, also a predefined one such as _OPENMP (repeatable)
   -I, --include-dir DIR    search DIR for #include "..." headers after the file's own folder (repeatable)
@@ -84,6 +88,7 @@ export function parseCli(argv: string[]): CliArgs {
       options: {
         format: { type: 'string', short: 'f' },
         bind: { type: 'string', short: 'b', multiple: true },
+        'time-loop': { type: 'string', multiple: true },
         define: { type: 'string', short: 'D', multiple: true },
         undefine: { type: 'string', short: 'U', multiple: true },
         'include-dir': { type: 'string', short: 'I', multiple: true },
@@ -143,9 +148,11 @@ export function parseCli(argv: string[]): CliArgs {
   });
   const directives = values.directives;
   if (directives !== undefined && !['openacc', 'openmp', 'both'].includes(directives)) throw new UsageError(`unknown directive model \`${directives}\`; use openacc, openmp or both`);
+  const timeLoopVariables = (values['time-loop'] ?? []).flatMap((v) => v.split(',')).map((v) => v.trim()).filter((v) => v !== '');
+  for (const v of timeLoopVariables) if (!/^[A-Za-z_]\w*$/.test(v)) throw new UsageError(`--time-loop expects a variable name, got \`${v}\``);
   const common: CommonArgs = {
     format: format as CommonArgs['format'], bindings, profile: values.profile, baseline, machines: values.machines,
-    defines, undefines, includeDirs: values['include-dir'] ?? [], directives: directives as CommonArgs['directives'],
+    defines, undefines, includeDirs: values['include-dir'] ?? [], directives: directives as CommonArgs['directives'], timeLoopVariables,
   };
   if (command === 'check') return { command, paths, ...common };
   const runs = positiveInt(values.runs, '--runs') ?? 1;

@@ -61,7 +61,7 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   // Every file's model first, so that a time loop calling a kernel in another file follows it.
   const models = files.map((f) => buildModel(f, deps, settings));
   const analyses: FileAnalysis[] = files.map((f, k) =>
-    analyzeSource({ ...f, model: models[k] }, deps, { ...settings, bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined }),
+    analyzeSource({ ...f, model: models[k] }, deps, { ...settings, bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }),
   );
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);

@@ -5,7 +5,8 @@
  */
 import type { Parser } from 'web-tree-sitter';
 import * as S from './symbolic';
-import type { ProgramModel } from './model/program';
+import type { LoopStmt, ProgramModel } from './model/program';
+import { walkStatements } from './model/values';
 import { buildCModel } from './frontend/c';
 import { emptyModel } from './model/empty';
 import { ownModelInWorkspace, withWorkspace } from './model/workspace';
@@ -13,7 +14,7 @@ import { substituteIndexLocals } from './model/indexLocals';
 import { buildFortranModel } from './frontend/fortran';
 import { type DirectiveModel, preprocess } from './preprocessor';
 import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
-import { type LoopNest, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
+import { type LoopNest, type RejectedLoop, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
 import { raceFindings } from './analysis/races';
 import { type TimeLoopLedger, dataLedger } from './data/ledger';
@@ -66,6 +67,8 @@ export interface AnalyzeOptions extends PreprocessSettings {
   whatIf?: boolean;
   /** Models of the other files of the workspace: calls into them are followed. */
   workspace?: readonly ProgramModel[];
+  /** Loop variables the user names as time-loop variables (`--time-loop iter`); default none. */
+  timeLoopVariables?: readonly string[];
 }
 
 /** The program model of one file (what `analyzeSource` starts from); never throws. */
@@ -121,6 +124,8 @@ export interface FileAnalysis {
   /** Nests of other workspace files that this file's time loops run (costed here, reported there). */
   externalNests: NestReport[];
   timeLoops: TimeLoopReport[];
+  /** Loops around kernels or nests that were not taken as time loops, with the reason. */
+  notTimeLoops: RejectedLoop[];
   findings: Finding[];
   internalErrors: string[];
 }
@@ -137,6 +142,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     nests: [],
     externalNests: [],
     timeLoops: [],
+    notTimeLoops: [],
     findings: [],
     internalErrors: [],
   };
@@ -167,7 +173,8 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       }
       return b;
     };
-    const scan = scanLoops(model);
+    const scan = scanLoops(model, { timeLoopVariables: options.timeLoopVariables });
+    result.notTimeLoops = scan.rejected.filter((r) => !r.procedure.origin);
     // Nests of other files are costed too (a time loop here may run them) but reported there.
     const external = result.externalNests;
     for (const nest of scan.nests) {
@@ -245,7 +252,13 @@ function unknownExtentFindings(a: FileAnalysis): Finding[] {
     const where = one ? `the trip count of the loop at line ${lines[0]} stays` : `the trip counts of ${lines.length} loops (lines ${lines.join(', ')}) stay`;
     const fortran = a.language === 'fortran';
     const give = fortran ? 'or make it a `parameter`' : 'or give it a `#define`, a `const` initialisation or a `-D` (`--define`)';
-    const how = sym.startsWith('trips_L')
+    let own: LoopStmt | undefined;
+    walkStatements([loop], (s) => {
+      if (s.kind === 'loop' && s.tripSymbol === sym) own ??= s;
+    });
+    const how = own
+      ? `The trip count of the loop at line ${own.keywordRange.start.line + 1} cannot be read from ${own.counter ? `its header or its counter \`${own.counter.name}\`${own.counter.start ? '' : ' (its start value is not known)'}` : 'its header (a while loop or non-affine bounds)'}, so it stays symbolic as \`${sym}\`${one && lines[0] === own.keywordRange.start.line + 1 ? '' : ` and so ${one ? `does the loop at line ${lines[0]}` : `do ${lines.length} loops (lines ${lines.join(', ')})`}`}; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
+      : sym.startsWith('trips_L')
       ? `The trip count of the loop at line ${sym.slice(7)} cannot be read from its header (a while loop or non-affine bounds), so it stays symbolic${one && String(lines[0]) === sym.slice(7) ? '' : ` and so ${one ? `does the loop at line ${lines[0]}` : `do ${lines.length} loops (lines ${lines.join(', ')})`}`}; bind \`${sym}\` to the expected count with \`--bind ${sym}=<count>\` or the size-bindings setting.`
       : `\`${sym}\` has no value the tool can see, so ${where} symbolic; bind it with \`--bind ${sym}=<value>\` (or the size-bindings setting), ${give}.`;
     out.push({ code: 'unknown-extent', severity: 'info', range: loop.keywordRange, message: how });

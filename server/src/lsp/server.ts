@@ -103,6 +103,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
       preprocess: preprocessOf(settings.preprocessorFlags, folderOf(path)),
       profile: resolved.profile,
       baseline: settings.baseline,
+      timeLoopVariables: settings.timeLoopVariables.split(/[\s,]+/).filter((v) => /^[A-Za-z_]\w*$/.test(v)),
       view: {
         profileName: resolved.label,
         baseline: settings.baseline,

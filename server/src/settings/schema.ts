@@ -70,6 +70,13 @@ export const SETTINGS = {
     usedBy: 'server',
     markdownDescription: 'Compiler flags the analysis preprocesses with, written as on the compiler\'s command line: `-DNAME[=VALUE]`, `-UNAME`, `-I DIR` (relative to the workspace folder) and `-fopenacc` / `-fopenmp` to choose which of `_OPENACC` (202211) and `_OPENMP` (202111) is predefined; e.g. `-DUSE_GPU -DNX=512 -I include -fopenacc`. Without a model flag, each file is read in the model of its own directives. Other flags are ignored. (The command line\'s `--define`, `--undefine`, `--include-dir` and `--directives` do the same.)',
   },
+  timeLoopVariables: {
+    type: 'string',
+    default: '',
+    scope: 'resource',
+    usedBy: 'server',
+    markdownDescription: 'Loop variables that name time loops, separated by spaces or commas, e.g. `iter it` (the same as `--time-loop iter --time-loop it` on the command line). A loop whose variable (or step counter, for a `while` loop) is named here is taken as a time loop even when the analysis would not find it. A comment `// offload-ledger: time-loop` (Fortran `! offload-ledger: time-loop`) on the line before a loop marks that one loop.',
+  },
   severity: {
     type: 'object',
     properties: Object.fromEntries(FINDING_CODES.map((c) => [c, { type: 'string', enum: SEVERITY_VALUES }])),

@@ -1,10 +1,15 @@
 /**
  * Finds compute loop nests and time loops in a program model.
  *
- * A *time loop* contains compute work (an offload construct, a data directive, two or more
- * loop nests, or a call to a procedure with loops) and its variable indexes none of the arrays
- * inside its nested loops — stepping through time, not through space. A *loop nest* is the
- * outermost loop that is not a time loop; loops inside it belong to it.
+ * A *time loop* is a loop that contains work (a nested loop, an offload construct or data
+ * directive, or a call to a procedure with loops) and whose later passes read data its earlier
+ * passes wrote: the dependence test is in timeLoops.ts, and it applies to serial code as much as
+ * to offloaded code. The user may also mark a loop: our annotation comment on the line before it
+ * (`// offload-ledger: time-loop`, `! offload-ledger: time-loop`) or the time-loop-variables
+ * setting (`--time-loop VAR`). A *loop nest* is the outermost loop that is not a time loop;
+ * loops inside it belong to it. A host loop around offloaded constructs (a loop over tiles) is
+ * not a nest itself: the constructs inside it are the nests, and the data ledger counts their
+ * launches once per pass of the host loop.
  */
 import * as S from '../symbolic';
 import type { Directive } from '../types';
@@ -12,6 +17,7 @@ import type { LoopStmt, Procedure, ProgramModel, Stmt } from '../model/program';
 import { isDataConstruct, isLoopDirective, isOffloadCompute } from '../model/directives';
 import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
 import { calleesOf } from '../model/callees';
+import { LoopJudge } from './timeLoops';
 
 export interface LoopNest {
   root: LoopStmt;
@@ -24,6 +30,8 @@ export interface LoopNest {
   paths: LoopStmt[][];
   /** The time loop around this nest, if any. */
   timeLoop?: LoopStmt;
+  /** Why the root, a loop around other work, was not taken as a time loop. */
+  notTimeLoop?: string;
 }
 
 export interface TimeLoop {
@@ -33,30 +41,68 @@ export interface TimeLoop {
   nests: LoopNest[];
   /** Time loops nested inside another time loop are reported, but the outer one is the step. */
   parent?: LoopStmt;
+  /** Why the loop was taken as a time loop, as a sentence fragment (`it swaps u and un every pass …`). */
+  reason: string;
+  /** Set when the user marked the loop (annotation comment or setting) rather than the analysis finding it. */
+  marked?: 'annotation' | 'setting';
+}
+
+/** A loop around other work (kernels, nests, calls) that was not taken as a time loop, and why. */
+export interface RejectedLoop {
+  loop: LoopStmt;
+  procedure: Procedure;
+  reason: string;
 }
 
 export interface NestScan {
   nests: LoopNest[];
   timeLoops: TimeLoop[];
+  /** Loops that enclose kernels or nests but are not time loops, with the reason. */
+  rejected: RejectedLoop[];
 }
 
-export function scanLoops(model: ProgramModel): NestScan {
+export interface ScanOptions {
+  /** Loop variables the user names as time-loop variables (`--time-loop iter`). */
+  timeLoopVariables?: readonly string[];
+}
+
+export function scanLoops(model: ProgramModel, options: ScanOptions = {}): NestScan {
   const withLoops = proceduresWithLoops(model);
   const callees = calleesOf(model);
   calleeName = (name) => callees.resolve(name)?.name ?? name;
-  const out: NestScan = { nests: [], timeLoops: [] };
+  const judge = new LoopJudge(model, callees);
+  const fortran = model.language === 'fortran';
+  const named = new Set((options.timeLoopVariables ?? []).map((v) => (fortran ? v.toLowerCase() : v)));
+  const out: NestScan = { nests: [], timeLoops: [], rejected: [] };
   for (const proc of model.procedures) {
     const visit = (stmts: Stmt[], offload: Directive | undefined, time: TimeLoop | undefined): void => {
       for (const s of stmts) {
         const here = s.directives.find(isOffloadCompute) ?? offload;
         if (s.kind === 'loop') {
-          if (!here && isTimeLoop(s, withLoops)) {
-            const tl: TimeLoop = { loop: s, procedure: proc, nests: [], parent: time?.loop };
-            out.timeLoops.push(tl);
-            visit(s.body, here, tl);
-            continue;
+          let notTime: string | undefined;
+          if (!here) {
+            const work = workOf(s, withLoops);
+            const mark = s.markedTimeLoop ? 'annotation' : s.variable && named.has(s.variable) ? 'setting' : undefined;
+            const v = classify(s, proc, work, mark, judge);
+            if (v?.time) {
+              const tl: TimeLoop = { loop: s, procedure: proc, nests: [], parent: time?.loop, reason: v.reason, ...(mark ? { marked: mark } : {}) };
+              out.timeLoops.push(tl);
+              visit(s.body, here, tl);
+              continue;
+            }
+            if (v && work.enclosesKernels) {
+              out.rejected.push({ loop: s, procedure: proc, reason: v.reason });
+              notTime = v.reason;
+            }
+            // A host loop around offloaded constructs, or around calls only, is no nest of its
+            // own: the constructs inside it (or in the callees) are.
+            if (work.offloadInside || (work.calls > 0 && work.nested === 0)) {
+              visit(s.body, here, time);
+              continue;
+            }
           }
           const nest = makeNest(s, proc, here, time?.loop);
+          if (notTime) nest.notTimeLoop = notTime;
           out.nests.push(nest);
           time?.nests.push(nest);
           continue;
@@ -68,7 +114,6 @@ export function scanLoops(model: ProgramModel): NestScan {
   }
   return out;
 }
-
 function makeNest(root: LoopStmt, procedure: Procedure, offload: Directive | undefined, timeLoop: LoopStmt | undefined): LoopNest {
   const paths: LoopStmt[][] = [];
   const descend = (loop: LoopStmt, path: LoopStmt[]): void => {
@@ -94,19 +139,44 @@ export function directLoops(stmts: Stmt[]): LoopStmt[] {
 /** Resolves a call's name to its procedure's name, for the scan in progress. */
 let calleeName: (name: string) => string = (name) => name;
 
-function isTimeLoop(loop: LoopStmt, withLoops: Set<string>): boolean {
-  if (loop.directives.some((d) => isLoopDirective(d) || isOffloadCompute(d))) return false;
+interface Work {
+  /** Loops directly in the body (through blocks and branches). */
+  nested: number;
+  /** Calls to procedures that contain loops. */
+  calls: number;
+  /** An offload construct or data directive somewhere in the body. */
+  offloadOrData: boolean;
+  /** An offload compute construct somewhere in the body (the loop itself runs on the host). */
+  offloadInside: boolean;
+  /** A loop around kernels or several nests: the ones whose verdict the hover explains. */
+  enclosesKernels: boolean;
+}
+
+function workOf(loop: LoopStmt, withLoops: Set<string>): Work {
   let offloadOrData = false;
+  let offloadInside = false;
   let calls = 0;
   walkStatements(loop.body, (s) => {
+    if (s.directives.some(isOffloadCompute)) offloadInside = true;
     if (s.directives.some((d) => isOffloadCompute(d) || isDataConstruct(d))) offloadOrData = true;
     if (s.kind === 'directive' && !s.directive.isEnd) offloadOrData = true;
     if (s.kind === 'call' && withLoops.has(calleeName(s.name))) calls++;
   });
   const nested = directLoops(loop.body).length;
-  const works = offloadOrData || nested >= 2 || calls > 0 || (nested >= 1 && calls > 0);
-  if (!works) return false;
-  return !indexesNestedArrays(loop);
+  return { nested, calls, offloadOrData, offloadInside, enclosesKernels: offloadOrData || calls > 0 || nested >= 2 };
+}
+
+/**
+ * The verdict on one loop that is not offloaded itself: undefined for a loop around no work (a
+ * plain loop, which is a nest or part of one).
+ */
+function classify(loop: LoopStmt, proc: Procedure, work: Work, mark: 'annotation' | 'setting' | undefined, judge: LoopJudge): { time: boolean; reason: string } | undefined {
+  if (loop.implied) return undefined;
+  if (loop.directives.some((d) => isLoopDirective(d) || isOffloadCompute(d))) return undefined;
+  if (mark === 'annotation') return { time: true, reason: 'marked by the `offload-ledger: time-loop` comment before it' };
+  if (mark === 'setting') return { time: true, reason: `its variable \`${loop.variable}\` is named by the time-loop-variables setting` };
+  if (work.nested === 0 && work.calls === 0 && !work.offloadOrData) return undefined;
+  return judge.judge(loop, proc, indexesNestedArrays(loop), work.enclosesKernels);
 }
 
 /**
@@ -198,8 +268,13 @@ export function nestIterations(nest: LoopNest): { expr: S.Expr; display: string;
   return { expr, display, unknownLoops, triangular };
 }
 
+/**
+ * The symbol of a trip count no header gives. The step-counter pass names it after the counter
+ * (`steps_iter`) or the procedure (`trips_main_1`) and makes it the loop's `tripCount`; the
+ * line-based name is left for loops built without that pass.
+ */
 export function unknownTripSymbol(l: LoopStmt): string {
-  return `trips_L${l.keywordRange.start.line + 1}`;
+  return l.tripSymbol ?? `trips_L${l.keywordRange.start.line + 1}`;
 }
 
 /** Prints a product of factors, parenthesising sums and dropping unit factors. */

@@ -24,6 +24,8 @@ export interface AnalysisJob {
   preprocess?: { defines: [string, string][]; undefines: string[]; includeDirs: string[]; directives?: 'openacc' | 'openmp' | 'both' };
   profile?: MachineProfile;
   baseline: Baseline;
+  /** Loop variables the user names as time-loop variables (setting `timeLoopVariables`). */
+  timeLoopVariables?: string[];
   view: ViewOptions;
   /** Other sources beside the document: calls from its time loops into them are followed. */
   neighbours?: NeighbourSource[];
@@ -48,6 +50,7 @@ export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
   const pp = job.preprocess;
   return {
     bindings: new Map(job.bindings), baseline: job.baseline, ...(job.profile ? { profile: job.profile } : {}),
+    ...(job.timeLoopVariables && job.timeLoopVariables.length > 0 ? { timeLoopVariables: job.timeLoopVariables } : {}),
     ...(pp ? { defines: new Map(pp.defines), undefines: pp.undefines, includeDirs: pp.includeDirs, directives: pp.directives } : {}),
   };
 }

@@ -4,7 +4,9 @@
  * baseline, size bindings); a figure the core did not compute is shown as absent, never guessed.
  */
 import type { NestReport, TimeLoopReport } from '../../core/analyze';
-import { nestIterations } from '../../core/analysis/nests';
+import { type RejectedLoop, nestIterations } from '../../core/analysis/nests';
+import type { LoopStmt } from '../../core/model/program';
+import { TIME_LOOP_ANNOTATION } from '../../core/frontend/annotations';
 import { userKeys } from '../../core/analysis/bindings';
 import type { TransferReport } from '../../core/data/ledger';
 import type { NestEstimate, StepEstimate } from '../../core/estimate/types';
@@ -53,6 +55,7 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
     '',
     table(rows),
     '',
+    ...(n.notTimeLoop ? [`_Not a time loop:_ ${n.notTimeLoop}. Mark it with \`${annotation(ctx)}\` on the line before it if it is one.`, ''] : []),
     ...(n.procedure.assumptions ?? []).map((x) => `_Assumed:_ ${x}\n`),
     assumptions(ctx, symbols, s, !!est),
   ].join('\n');
@@ -61,9 +64,10 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
 export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, ctx: ViewContext, s: CardSettings): string {
   const loop = t.timeLoop.loop;
   const line = loop.keywordRange.start.line + 1;
-  const head = `**Time loop at line ${line}** · \`${loop.variable ?? 'while'}\` in \`${t.timeLoop.procedure.name}\` · ${countMd(t.steps)} steps`;
+  const head = `**Time loop at line ${line}** · \`${loop.variable ?? 'while'}\` in \`${t.timeLoop.procedure.name}\` · ${loop.tripCountIsBound ? 'at most ' : ''}${countMd(t.steps)} steps`;
+  const why = `_${t.timeLoop.marked ? 'Marked as the time loop' : 'Taken as the time loop'}:_ ${t.timeLoop.reason}.${stepsNote(loop)}`;
   const l = t.ledger;
-  if (!l) return `${head}\n\nInside another time loop: its transfers are counted per step of the outer loop.`;
+  if (!l) return `${head}\n\n${why}\n\nInside another time loop: its transfers are counted per step of the outer loop.`;
   const rows: [string, string][] = [
     ['to device per step', bytesMd(l.perStep.toDevice)],
     ['to host per step', bytesMd(l.perStep.toHost)],
@@ -80,7 +84,7 @@ export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, c
   } else {
     rows.push(['speedup', '— (not estimated)']);
   }
-  const out = [head, '', table(rows)];
+  const out = [head, '', why, '', table(rows)];
   if (l.dataRegion) {
     const r = l.dataRegion;
     const updates = r.updates.length > 0 ? ` plus ${r.updates.length} update${r.updates.length === 1 ? '' : 's'} for host code in the loop` : '';
@@ -89,6 +93,38 @@ export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, c
   const symbols = loop.tripCount ? ctx.symbolValues(loop.tripCount, t.timeLoop.procedure) : [];
   out.push('', assumptions(ctx, symbols, s, !!est));
   return out.join('\n');
+}
+
+/** How the steps were counted, for a loop whose count comes from a step counter or is a bound. */
+function stepsNote(loop: LoopStmt): string {
+  const c = loop.counter;
+  const parts: string[] = [];
+  if (c) {
+    const from = c.boundFrom === 'break' ? `the exit test \`${c.boundText}\`` : c.boundFrom === 'condition' ? `the test \`${c.boundText}\`` : undefined;
+    parts.push(`Steps counted by \`${c.name}\` (incremented at line ${c.incrementRange.start.line + 1}${c.start ? '' : '; its start value is not known'})${from ? `, bounded by ${from}` : ''}.`);
+  }
+  if (loop.tripCountIsBound) {
+    const exits = c?.otherExits ?? [];
+    parts.push(`The count is an upper bound: ${exits.length > 0 ? exits.join(' or ') : 'a `break` or `exit`'} may end the loop earlier.`);
+  }
+  return parts.length > 0 ? ` ${parts.join(' ')}` : '';
+}
+
+/** The annotation comment in the file's language. */
+function annotation(ctx: ViewContext): string {
+  return `${ctx.analysis.language === 'fortran' ? '!' : '//'} ${TIME_LOOP_ANNOTATION}`;
+}
+
+/** A loop around kernels or nests that was not taken as a time loop (a loop over tiles, fields, or an initialisation). */
+export function notTimeLoopCard(r: RejectedLoop, ctx: ViewContext): string {
+  const line = r.loop.keywordRange.start.line + 1;
+  return [
+    `**Loop at line ${line}** · \`${r.loop.variable ?? 'while'}\` in \`${r.procedure.name}\` · not a time loop`,
+    '',
+    `${r.reason[0].toUpperCase()}${r.reason.slice(1)}. The offloaded constructs or nests inside it are costed on their own, once per pass of this loop.`,
+    '',
+    `If it is the time loop, mark it with \`${annotation(ctx)}\` on the line before it, or name \`${r.loop.variable ?? 'its variable'}\` in \`offloadLedger.timeLoopVariables\`.`,
+  ].join('\n');
 }
 
 export interface ArrayCardInput {

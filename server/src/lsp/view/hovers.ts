@@ -10,7 +10,7 @@ import type { TimeLoopLedger, TransferReport } from '../../core/data/ledger';
 import type { LoopStmt, Stmt } from '../../core/model/program';
 import { accessesOfStatement, walkStatements } from '../../core/model/values';
 import type { Range as CoreRange, VarRef } from '../../core/types';
-import { arrayCard, nestCard, timeLoopCard, type CardSettings } from './cards';
+import { arrayCard, nestCard, notTimeLoopCard, timeLoopCard, type CardSettings } from './cards';
 import type { ViewContext } from './context';
 import { nestEstimate, stepEstimate } from './estimates';
 import { toLspRange } from './ranges';
@@ -69,6 +69,12 @@ export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings):
   a.timeLoops.forEach((t, k) => {
     const id = card(`time:${k}`, () => timeLoopCard(t, stepEstimate(t), ctx, s));
     add(t.timeLoop.loop.keywordRange, id);
+  });
+
+  // Loops around kernels that are not time loops (and not nests themselves): why not.
+  const nestRoots = new Set(a.nests.map((r) => r.nest.root));
+  a.notTimeLoops.forEach((r, k) => {
+    if (!nestRoots.has(r.loop)) add(r.loop.keywordRange, card(`not-time:${k}`, () => notTimeLoopCard(r, ctx)));
   });
 
   // Array names in clauses: the transfers this clause makes, and the array's totals.
