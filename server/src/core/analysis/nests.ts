@@ -173,8 +173,8 @@ function workOf(loop: LoopStmt, withLoops: Set<string>): Work {
 function classify(loop: LoopStmt, proc: Procedure, work: Work, mark: 'annotation' | 'setting' | undefined, judge: LoopJudge): { time: boolean; reason: string } | undefined {
   if (loop.implied) return undefined;
   if (loop.directives.some((d) => isLoopDirective(d) || isOffloadCompute(d))) return undefined;
-  if (mark === 'annotation') return { time: true, reason: 'marked by the `offload-ledger: time-loop` comment before it' };
-  if (mark === 'setting') return { time: true, reason: `its variable \`${loop.variable}\` is named by the time-loop-variables setting` };
+  if (mark === 'annotation') return { time: true, reason: 'the comment `offload-ledger: time-loop` before it names it' };
+  if (mark === 'setting') return { time: true, reason: `its variable \`${loop.variable}\` is named by the time-loop-variables setting (\`--time-loop\`)` };
   if (work.nested === 0 && work.calls === 0 && !work.offloadOrData) return undefined;
   return judge.judge(loop, proc, indexesNestedArrays(loop), work.enclosesKernels);
 }
