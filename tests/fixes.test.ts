@@ -39,6 +39,7 @@ const cases: { file: string; codes: string[]; defines: string[]; run: boolean }[
   { file: 'tests/fixtures/data/host_source.c', codes: ['stale-on-device'], defines: [], run: true },
   { file: 'tests/fixtures/data/present_inside_region.c', codes: ['already-present'], defines: [], run: true },
   { file: 'tests/fixtures/data/wide_update.c', codes: ['update-wider-than-needed'], defines: [], run: true },
+  { file: 'tests/fixtures/data-flow/edge_rows.c', codes: ['update-wider-than-needed'], defines: [], run: true },
   { file: 'tests/fixtures/races/races.c', codes: ['missing-reduction'], defines: [], run: false },
   { file: 'examples/heat2d/heat2d_acc.c', codes: ['implicit-transfer'], defines: ['-DNX=64', '-DNY=48', '-DSTEPS=120'], run: true },
   { file: 'examples/hall/hall_naive_omp.c', codes: ['transfer-in-time-loop'], defines: ['-DNX=40', '-DNY=30', '-DNZ=20', '-DSTEPS=120'], run: true },

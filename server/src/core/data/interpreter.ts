@@ -41,6 +41,8 @@ export interface TransferRecord {
   origin?: string;
   /** A scalar (a reduction result, a scalar in a data clause or a kernels construct): small, but each is a blocking transfer. */
   scalar?: boolean;
+  /** For updates: the section as written and the elements it moves. */
+  section?: { text: string; region: Region };
 }
 
 /** A host access inside the time loop to an array the device also uses. */
@@ -766,7 +768,7 @@ export class DataInterpreter {
         const st = this.env.state(key);
         if (ctx.run) ctx.run.deviceUsed.add(key);
         if (!st.present) continue;
-        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole, d.macroExpanded ? undefined : m.ref.range);
+        this.transfer(ctx, d.range, key, m.direction, section.bytes, 'update', st.allocation, section.whole, d.macroExpanded ? undefined : m.ref.range, undefined, { text: m.ref.text, region: section.region });
         if (m.direction === 'toHost') st.deviceNewer = subtract(st.deviceNewer, section.region);
         else st.hostNewer = subtract(st.hostNewer, section.region);
       }
@@ -799,10 +801,13 @@ export class DataInterpreter {
 
   // ---- records -------------------------------------------------------------------------
 
-  private transfer(ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean, at?: Range, scalar?: boolean): void {
+  private transfer(
+    ctx: Ctx, range: Range, array: string, direction: 'toDevice' | 'toHost', bytes: S.Expr, cause: Cause, allocation: number, whole: boolean,
+    at?: Range, scalar?: boolean, section?: { text: string; region: Region },
+  ): void {
     const rec: TransferRecord = {
       range, array, direction, bytes: S.mul(bytes, ctx.multiplier), everySteps: ctx.everySteps, cause,
-      via: ctx.frame.via, allocation, whole, at, origin: ctx.frame.proc.origin, ...(scalar ? { scalar } : {}),
+      via: ctx.frame.via, allocation, whole, at, origin: ctx.frame.proc.origin, ...(scalar ? { scalar } : {}), ...(section ? { section } : {}),
     };
     if (ctx.run) {
       if (ctx.recording) ctx.run.transfers.push(rec);

@@ -14,7 +14,7 @@ import type { DirectiveFamily, Finding, Fix, Range, TextEdit } from '../types';
 import { isOffloadCompute } from '../model/directives';
 import { walkStatements } from '../model/values';
 import { DataInterpreter, type TimeLoopRun, type TransferRecord } from './interpreter';
-import { type Region, regionSize, subtract } from './regions';
+import { type Region, intersect, regionSize, subtract } from './regions';
 import { regionSectionText } from './slices';
 import { type DataRegionSuggestion, suggestDataRegion, updateDirective, updateLines } from './suggest';
 import { touchSectionText } from './slices';
@@ -159,10 +159,19 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
         message: `\`${t0.array}\`${sizeText} is named in no data clause and is not present, so this construct ${how === 'copied to the device and back' ? 'copies it to the device and back' : how.replace('copied', 'copies it')} ${every} by the implicit rules (OpenACC 3.3 §2.6.2: aggregates are copied; OpenMP 5.2 §5.8.1: map(tofrom))${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
       });
     } else if (t0.cause === 'update') {
-      const whole = l.run.transfers.some((r) => r.range === t0.range && r.array === t0.array && r.whole);
+      const recs = l.run.transfers.filter((r) => r.range === t0.range && r.array === t0.array && r.direction === t0.direction);
+      const whole = recs.some((r) => r.whole);
+      // Slices are named as written: `u[0:1][0:N]` and `u[N-1:1][0:N]`, not "a slice of u".
+      const slices = [...new Set(recs.map((r) => r.section?.text).filter((x): x is string => !!x))];
+      const total = S.evaluate(S.add(...recs.map((r) => r.bytes)), bindings);
+      const what = whole
+        ? `all of \`${t0.array}\`${sizeText}`
+        : slices.length > 1
+          ? `${slices.length} slices of \`${t0.array}\` (${slices.map((x) => `\`${x}\``).join(', ')}${total !== undefined ? `; ${S.formatBytes(total)} together` : ''})`
+          : `the slice ${slices[0] ? `\`${slices[0]}\`` : `of \`${t0.array}\``}${size !== null ? ` (${S.formatBytes(size)})` : ''}`;
       out.push({
         code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: place(t0.at ?? t0.range), array: t0.array,
-        message: `This update moves ${whole ? 'all of ' : 'a slice of '}\`${t0.array}\`${whole ? sizeText : size !== null ? ` (${S.formatBytes(size)})` : ''} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it; keep it as narrow as it is.'}`,
+        message: `This update moves ${what} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it.'}`,
       });
     } else {
       out.push({
@@ -179,6 +188,11 @@ function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: 
   const out: Finding[] = [];
   const seen = new Set<string>();
   for (const t of l.run.transfers) {
+    if (t.cause === 'update' && !t.whole && !t.origin && t.direction === 'toHost') {
+      const f = overwrittenSliceFinding(t, l, interp, model, seen);
+      if (f) out.push(f);
+      continue;
+    }
     // An update in another file is that file's to narrow.
     if (t.cause !== 'update' || !t.whole || t.origin) continue;
     const id = `${t.range.start.line}:${t.array}:${t.direction}`;
@@ -203,6 +217,35 @@ function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: 
     });
   }
   return out;
+}
+
+/**
+ * A slice brought to the host of which the host overwrites part before it reads it: only the
+ * elements read before being overwritten need the device's values (host reads in step order).
+ */
+function overwrittenSliceFinding(t: TransferRecord, l: TimeLoopLedger, interp: DataInterpreter, model: ProgramModel, seen: Set<string>): Finding | undefined {
+  const id = `${t.range.start.line}:${t.array}:${t.section?.text}`;
+  if (seen.has(id) || !t.section) return undefined;
+  seen.add(id);
+  const info = interp.infoOf(t.array);
+  if (!info || info.shapeApproximate) return undefined;
+  const updated = t.section.region;
+  let written: Region = [];
+  let needed: Region = [];
+  for (const h of l.run.hostTouches) {
+    if (h.key !== t.array) continue;
+    if (h.kind === 'read') needed = [...needed, ...intersect(subtract(h.region, written), updated)];
+    else written = [...written, ...h.region];
+  }
+  const have = regionSize(mergeDisjoint(updated));
+  const need = regionSize(mergeDisjoint(needed));
+  if (!Number.isFinite(have) || !Number.isFinite(need) || need === 0 || need >= have) return undefined;
+  const slice = regionSectionText(mergeDisjoint(needed), t.array, info, model.language);
+  return {
+    fixes: t.at ? [{ title: `Narrow the update to \`${slice}\``, edits: [{ range: t.at, newText: slice }] }] : undefined,
+    code: 'update-wider-than-needed', severity: 'warning', range: t.at ?? t.range, array: t.array,
+    message: `This update brings \`${t.section.text}\` (${S.formatBytes(have * info.elementBytes)}) to the host, but host code overwrites part of it before reading it; only ${need.toLocaleString('en-US')} element${need === 1 ? '' : 's'} are read first: update just \`${slice}\` (${S.formatBytes(need * info.elementBytes)}).`,
+  };
 }
 
 /** The union of possibly overlapping boxes as disjoint boxes, so its size counts each element once. */
