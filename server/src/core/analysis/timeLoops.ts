@@ -39,7 +39,7 @@ interface Event {
   /** The unseen procedure that receives the array, when it is passed to one. */
   unseen?: string;
   line: number;
-  /** The call it happens through, if any (`step`, line 12). */
+  /** The called procedure the access is in, when it is not in the loop's own (its `line` is then there). */
   via?: string;
   /**
    * The elements touched, as subscripts with loop variables replaced by their ranges (so
@@ -64,9 +64,6 @@ interface Frame {
   /** Set inside a branch that runs only for some values of the loop variable (`if (f == 0)`). */
   picked?: string;
   depth: number;
-  /** The loop procedure's line of the call this frame was entered through. */
-  at?: number;
-  via?: string;
   stack: string[];
 }
 
@@ -121,13 +118,19 @@ export class LoopJudge {
       if (!exposed) continue;
       if (!write) inputs.push(array);
       else if (exposed.unseen && write.unseen) unseen.push(exposed);
-      else carried.push({ array, read: exposed, write });
+      else carried.push({ array, read: exposed, write: shared.find((e) => e.write && shared.indexOf(e) >= shared.indexOf(exposed)) ?? write });
     }
     if (carried.length > 0) {
       const c = carried[0];
       const others = carried.length > 1 ? ` (also ${carried.slice(1, 4).map((x) => `\`${x.array}\``).join(', ')})` : '';
-      const through = (e: Event): string => (e.via ? ` in \`${e.via}\`` : '');
-      return { time: true, reason: `each pass reads \`${c.array}\` (line ${c.read.line}${through(c.read)}) before it writes it (line ${c.write.line}${through(c.write)}), so each pass starts from what the previous one wrote${others}` };
+      const where = (e: Event): string => `line ${e.line}${e.via ? `, in \`${e.via}\`` : ''}`;
+      const after = events.indexOf(c.write) >= events.indexOf(c.read);
+      return {
+        time: true,
+        reason: after
+          ? `each pass reads \`${c.array}\` (${where(c.read)}) before it writes it (${where(c.write)}), so each pass starts from what the previous one wrote${others}`
+          : `each pass reads elements of \`${c.array}\` (${where(c.read)}) that earlier passes wrote (${where(c.write)})${others}`,
+      };
     }
     if (unseen.length > 0) {
       const e = unseen[0];
@@ -135,7 +138,7 @@ export class LoopJudge {
     }
     const list = (xs: string[]): string => xs.slice(0, 3).map((a) => `\`${a}\``).join(', ');
     if (enclosesKernels && written.length > 0 && inputs.length > 0) {
-      return { time: true, reason: `each pass repeats the same work on the same arrays (reads ${list(inputs)}, writes ${list(written)}; none is indexed or picked by ${v ? `\`${v}\`` : 'the loop'}): taken as repeated steps, although no pass reads what an earlier one wrote` };
+      return { time: true, reason: `each pass repeats the same work on the same arrays (reads ${list(inputs)}, writes ${list(written)}; none is indexed or picked by ${v ? `\`${v}\`` : 'the loop'}), so its passes are steps even though none reads what an earlier one wrote` };
     }
     if (written.length === 0 && ownPassOnly > 0 && picked.size > 0) {
       return { time: false, reason: `each pass works on a different array, picked by \`${v ?? '?'}\` (${[...picked].slice(0, 2).map((p) => `\`${p}\``).join(', ')}): nothing carries from one pass to the next` };
@@ -158,7 +161,7 @@ export class LoopJudge {
         const alias = f.aliases.get(a.array);
         const name = alias?.array ?? this.nameIn(a.array, f);
         const ownPass = !!alias?.ownPass || !!f.picked || (!!v && a.subscripts.some((sub, k) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(a.subscriptValues[k], v))));
-        events.push({ array: name, read, write, ownPass, picked: alias?.picked ?? f.picked, line: f.at ?? line, via: f.via, key: keyOf(a, f.canon) });
+        events.push({ array: name, read, write, ownPass, picked: alias?.picked ?? f.picked, line, via: f.depth > 0 ? f.proc.name : undefined, key: keyOf(a, f.canon) });
       };
       const reads = (e: VExpr): void => {
         forEachAccess(e, (a) => record(a, true, false));
@@ -252,7 +255,9 @@ export class LoopJudge {
 
   private call(name: string, args: VExpr[], f: Frame, v: string | undefined, events: Event[], edges: { target: string; source: string; line: number }[], swaps: { a: string; b: string; line: number }[], line: number, inValue: boolean): void {
     const arrayArg = (a: VExpr): { name: string; alias?: Alias } | undefined => {
-      const b = strip(a);
+      let b = strip(a);
+      // A container's storage (`u.data()`, `u->data()`) is the container's array.
+      if (b.kind === 'call' && b.args.length === 0 && /(\.|->)data$/.test(b.name)) b = { kind: 'var', name: b.name.replace(/(\.|->)data$/, '') };
       if (b.kind === 'var' && (this.isPointer(b.name, f) || f.aliases.has(b.name))) {
         const alias = f.aliases.get(b.name);
         return { name: alias?.array ?? this.nameIn(b.name, f), alias: alias ?? (f.picked ? { array: this.nameIn(b.name, f), ownPass: true, picked: f.picked } : undefined) };
@@ -278,7 +283,7 @@ export class LoopJudge {
     }
     const callee = this.callees.resolve(name);
     const here = (e: Omit<Event, 'line'>): void => {
-      events.push({ ...e, line: f.at ?? line, via: e.via ?? f.via });
+      events.push({ ...e, line, via: f.depth > 0 ? f.proc.name : undefined });
     };
     if (callee && callee !== f.proc && !f.stack.includes(callee.name) && f.depth < MAX_DEPTH) {
       const aliases = new Map<string, Alias>();
@@ -296,7 +301,7 @@ export class LoopJudge {
           here({ array: alias?.array ?? this.nameIn(x.array, f), read: true, write: false, ownPass: !!alias?.ownPass || !!f.picked || byV, picked: alias?.picked ?? f.picked });
         });
       });
-      const inner: Frame = { proc: callee, aliases, canon: new Map(), depth: f.depth + 1, at: f.at ?? line, via: f.via ?? callee.name, stack: [...f.stack, callee.name], picked: f.picked };
+      const inner: Frame = { proc: callee, aliases, canon: new Map(), depth: f.depth + 1, stack: [...f.stack, callee.name], picked: f.picked };
       this.walk(callee.body, inner, v, events, edges, swaps);
       return;
     }
