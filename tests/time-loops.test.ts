@@ -183,6 +183,13 @@ describe('step counters of loops without a counted header', () => {
     expect(loop.tripCountIsBound).toBe(true);
   });
 
+  it('for (s = 1; s <= n;) with s++ in the body starts from the header, not from an earlier assignment', async () => {
+    const loop = await counts('void f(double *a, int n) { int s = 7; for (s = 1; s <= n;) { a[s] = 0.0; s++; } }');
+    expect(loop.variable).toBe('s');
+    // s = 1 … n: n - 1 + 1 = n passes (hand count).
+    expect(S.toString(loop.tripCount!)).toBe('n');
+  });
+
   it('a counter a `continue` may skip, or one written twice, is no step counter', async () => {
     const skipped = await counts('void f(double *a, int n) { int k = 0; while (k < n) { if (a[k] < 0.0) continue; k++; } }');
     expect(skipped.variable).toBeUndefined();

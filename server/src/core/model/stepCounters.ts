@@ -111,7 +111,8 @@ function readCounter(loop: LoopStmt, proc: Procedure, outer: Frame[]): void {
   // A `continue` before the increment would skip it on some passes.
   if (pick.k > 0 && continues(loop.body)) return;
   const counter: StepCounter = { name, incrementRange: pick.s.range, otherExits: [] };
-  counter.start = startOf(name, outer, proc) ?? (loop.initial?.name === name ? loop.initial.value : undefined);
+  // The header's own initialisation (`for (it = 0; it < n;)`) runs last before the loop.
+  counter.start = loop.initial?.name === name ? loop.initial.value : startOf(name, outer, proc);
   const written = assignedNames(loop.body);
   const invariant = (e: S.Expr): boolean => S.freeSymbols(e).every((x) => x !== name && !written.has(x));
   let trips: S.Expr | undefined;

@@ -37,7 +37,11 @@ export function buildCModel(parser: Parser, source: string | Preprocessed, path:
     tree.delete();
   }
   model.directives.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
-  readStepCounters(model, markedLoopLines(text, language));
+  try {
+    readStepCounters(model, markedLoopLines(text, language));
+  } catch {
+    // The pass is written not to throw; the counters are only left unread if it does.
+  }
   return model;
 }
 
