@@ -9,24 +9,39 @@
  * bounds). With different coefficients the GCD test proves independence when the gcd of the
  * coefficients does not divide the constant difference; otherwise the pair is left unreported
  * rather than guessed.
+ *
+ * When that finds nothing (the same element in the same iteration, or a distance the trip count
+ * rules out one loop at a time), the dependence equation is solved again within the bounds of
+ * all the loops at once (`distances.ts`): a write `a[j*nx + i]` with `0 <= i <= nx` meets the
+ * next row's first element, an output dependence carried by `j` that no single subscript shows.
+ * This bounded test runs only where it is exact: both references in the same innermost loop,
+ * not under a condition, in rectangular loops with constant steps; with unbound sizes it reports
+ * only what holds for every size.
+ *
+ * Data-sharing races (scalars shared by the iterations, scratch arrays without `private`) are in
+ * `privates.ts`; an array reported there is left out of the dependence test.
  */
 import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, ProgramModel, Stmt, VExpr } from '../model/program';
 import { clausesNamed, collapseCount, isLoopDirective } from '../model/directives';
-import { accessesOfStatement, childStatements, printValue, walkStatements } from '../model/values';
+import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
 import { linearise, probeValues } from '../cost/footprint';
 import { Scope } from '../cost/scope';
 import type { Directive, Finding, Fix, Range } from '../types';
 import { rangeWithin } from '../ranges';
 import type { LoopNest } from './nests';
+import { accumulation, privateFindings, type PrivateFindings } from './privates';
+import { solveDistances } from './distances';
 
 export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>): Finding[] {
   const out: Finding[] = [];
   for (const nest of nests) {
     if (!nest.offload) continue;
     const parallel = parallelLoops(nest);
-    if (parallel.size > 0) out.push(...dependences(model, nest, parallel, bindingsOf(nest)));
+    const privates = privateFindings(model, nest);
+    if (parallel.size > 0) out.push(...dependences(model, nest, parallel, bindingsOf(nest), privates));
     out.push(...reductions(model, nest));
+    out.push(...privates.findings);
   }
   return out;
 }
@@ -64,38 +79,57 @@ interface Ref {
   access: ArrayAccess;
   coeffs: Map<string, S.Expr>;
   rest: S.Expr;
+  /** Loops of the nest around the reference, outermost first. */
+  loops: LoopStmt[];
+  /** Under a condition inside the nest: not every iteration makes it. */
+  guarded: boolean;
 }
 
-function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>): Finding[] {
+function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>, privates: PrivateFindings): Finding[] {
+  const skip = privates.scratchArrays;
   const scope = new Scope(model, nest.procedure);
   const loops: LoopStmt[] = [];
   walkStatements([nest.root], (s) => { if (s.kind === 'loop') loops.push(s); });
   const vars = loops.map((l) => l.variable).filter((v): v is string => !!v);
   const outer = new Map([...bindings].filter(([k]) => !vars.includes(k)));
   const refs = new Map<string, Ref[]>();
-  walkStatements([nest.root], (s) => {
-    for (const a of accessesOfStatement(s)) {
-      if (a.subscripts.length === 0 || a.subscripts.some((x) => !x)) continue;
-      const decl = scope.lookup(a.array);
-      if (decl && !decl.isArray) continue;
-      const subs = (a.subscripts as S.Expr[]).map((x) => S.substitute(x, outer));
-      const parts = S.affine(linearise(subs, decl, model.layout, a.array), vars);
-      if (!parts) continue;
-      refs.set(a.array, [...(refs.get(a.array) ?? []), { access: a, coeffs: parts.coeffs, rest: parts.rest }]);
+  const visit = (stmts: readonly Stmt[], around: LoopStmt[], guarded: boolean): void => {
+    for (const s of stmts) {
+      for (const a of accessesOfStatement(s)) {
+        if (a.subscripts.length === 0 || a.subscripts.some((x) => !x) || skip.has(a.array)) continue;
+        const decl = scope.lookup(a.array);
+        if (decl && !decl.isArray) continue;
+        const subs = (a.subscripts as S.Expr[]).map((x) => S.substitute(x, outer));
+        const parts = S.affine(linearise(subs, decl, model.layout, a.array), vars);
+        if (!parts) continue;
+        refs.set(a.array, [...(refs.get(a.array) ?? []), { access: a, coeffs: parts.coeffs, rest: parts.rest, loops: around, guarded }]);
+      }
+      if (s.kind === 'loop') visit(s.body, [...around, s], guarded || !s.variable);
+      else if (s.kind === 'if') visit(childStatements(s), around, true);
+      else visit(childStatements(s), around, guarded);
     }
-  });
+  };
+  visit([nest.root], [], false);
   const out: Finding[] = [];
   const seen = new Set<string>();
   for (const [array, list] of refs) {
     for (const w of list.filter((r) => r.access.isWrite)) {
       for (const x of list) {
-        if (x === w && !x.access.isRead) continue;
-        const carried = carrier(w, x, loops, parallel, outer);
-        if (!carried) continue;
+        // A write paired with itself: two iterations writing one element (bounded test only).
+        const self = x === w && !x.access.isRead;
         const id = `${array}:${x.access.range.start.line}:${x.access.range.start.col}`;
         if (seen.has(id)) continue;
+        // A private copy per iteration of the carrying loop carries nothing across it.
+        const carried = self ? undefined : carrier(w, x, loops, parallel, outer);
+        if (carried && !privates.privateIn(array, carried.loop)) {
+          seen.add(id);
+          out.push(message(array, w, x, carried));
+          continue;
+        }
+        const bounded = boundedCarrier(w, x, parallel, outer);
+        if (!bounded || privates.privateIn(array, bounded.loop)) continue;
         seen.add(id);
-        out.push(message(array, w, x, carried));
+        out.push(boundedMessage(array, w, x, bounded));
       }
     }
   }
@@ -145,6 +179,63 @@ function carrier(w: Ref, x: Ref, loops: LoopStmt[], parallel: Set<LoopStmt>, bin
 
 function gcd(a: number, b: number): number {
   return b === 0 ? a : gcd(b, a % b);
+}
+
+interface Bounded extends Carried {
+  /** The loops around both references and the distance in each (shown, e.g. `-nx`). */
+  loops: LoopStmt[];
+  shown: string[];
+  /** Sizes the proof holds for every value of (unbound). */
+  unbound: string[];
+}
+
+/**
+ * The dependence equation solved within the bounds of every loop around both references
+ * (`distances.ts`), for pairs where that is exact: the same loops around both, no condition,
+ * rectangular loops with known trip counts and constant steps.
+ */
+function boundedCarrier(w: Ref, x: Ref, parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>): Bounded | undefined {
+  if (w.guarded || x.guarded || w.loops.length !== x.loops.length || w.loops.some((l, k) => l !== x.loops[k])) return undefined;
+  const loops = w.loops;
+  if (loops.length === 0 || loops.some((l) => !l.variable || !l.tripCount || !l.step || l.triangular || (l as { tripCountIsBound?: boolean }).tripCountIsBound)) return undefined;
+  if (new Set(loops.map((l) => l.variable)).size !== loops.length) return undefined;
+  const names = new Set(loops.map((l) => l.variable!));
+  // Coefficients of loops that do not enclose the references must be zero, and equal for both.
+  for (const [v, c] of w.coeffs) if (!names.has(v) && S.constValue(c) !== 0) return undefined;
+  for (const [v, c] of x.coeffs) if (!names.has(v) && S.constValue(c) !== 0) return undefined;
+  const coeff = (r: Ref, l: LoopStmt): S.Expr => r.coeffs.get(l.variable!) ?? S.num(0);
+  if (loops.some((l) => !S.equals(coeff(w, l), coeff(x, l)))) return undefined;
+  if (loops.some((l) => !S.isConst(l.step!))) return undefined;
+  const carriers = new Set(loops.map((l, k) => (parallel.has(l) ? k : -1)).filter((k) => k >= 0));
+  if (carriers.size === 0) return undefined;
+  const solutions = solveDistances({
+    coeffs: loops.map((l) => S.mul(coeff(w, l), l.step!)),
+    trips: loops.map((l) => l.tripCount),
+    target: S.sub(w.rest, x.rest),
+    bindings,
+  }, carriers);
+  const first = solutions[0];
+  if (!first) return undefined;
+  const e = first.vector[first.carrier];
+  const kind: Carried['kind'] = !x.access.isRead ? 'output' : x === w || e > 0 ? 'flow' : 'anti';
+  const unbound = first.symbolic ? [...new Set(loops.flatMap((l) => S.freeSymbols(S.substitute(l.tripCount!, bindings))))].filter((v) => !names.has(v)) : [];
+  return { loop: loops[first.carrier], distance: Math.abs(Number.isFinite(e) ? e : 1), kind, loops, shown: first.shown, unbound };
+}
+
+function boundedMessage(array: string, w: Ref, x: Ref, c: Bounded): Finding {
+  const v = c.loop.variable ?? '?';
+  const wText = `${array}[${w.access.subscriptText.join('][')}]`;
+  const xText = `${array}[${x.access.subscriptText.join('][')}]`;
+  const names = c.loops.map((l) => l.variable).join(', ');
+  const steps = c.shown.map((d) => (d.startsWith('-') ? d : `+${d}`)).join(', ');
+  const touch = c.kind === 'output'
+    ? (w === x ? `both write \`${wText}\`` : `write the same element (\`${wText}\`, \`${xText}\`)`)
+    : `touch the same element, one writing \`${wText}\` and the other reading \`${xText}\``;
+  const always = c.unbound.length > 0 ? ` for every value of ${c.unbound.map((u) => `\`${u}\``).join(', ')}` : '';
+  return {
+    code: 'loop-carried-dependence', severity: 'error', range: x.access.range, array,
+    message: `This loop runs \`${v}\` in parallel, but two iterations whose (${names}) differ by (${steps}) ${touch}: within the loop bounds, the elements one value of \`${v}\` covers overlap those of another${always} (a loop-carried ${c.kind} dependence at distance ${c.distance} in \`${v}\`). Check the bounds against the array's row length so the ranges stay apart, or keep \`${v}\` sequential.`,
+  };
 }
 
 function message(array: string, w: Ref, x: Ref, c: Carried): Finding {
@@ -215,29 +306,6 @@ function nestDirectives(nest: LoopNest): Directive[] {
   return out;
 }
 
-
-/** The reduction operator an assignment to `name` accumulates with, if it does. */
-function accumulation(name: string, op: string, value: VExpr): string | undefined {
-  const mentions = (e: VExpr): boolean => printValue(e).split(/[^\w.%>-]+/).includes(name);
-  if (op === '+=' || op === '-=') return '+';
-  if (op === '*=') return '*';
-  if (op !== '=') return undefined;
-  if (value.kind === 'bin' && (value.op === '+' || value.op === '-' || value.op === '*')) {
-    const isSelf = (e: VExpr): boolean => e.kind === 'var' && e.name === name;
-    if (isSelf(value.left) || (value.op !== '-' && isSelf(value.right))) return value.op === '*' ? '*' : '+';
-  }
-  if (value.kind === 'call' && value.args.some((a) => a.kind === 'var' && a.name === name)) {
-    const f = value.name.toLowerCase();
-    if (['max', 'fmax', 'fmaxf', 'amax1', 'dmax1'].includes(f)) return 'max';
-    if (['min', 'fmin', 'fminf', 'amin1', 'dmin1'].includes(f)) return 'min';
-  }
-  if (value.kind === 'cond' && mentions(value.test)) {
-    const t = printValue(value.test);
-    if (/>/.test(t)) return 'max';
-    if (/</.test(t)) return 'min';
-  }
-  return undefined;
-}
 
 /** Appends `reduction(op:name)` at the end of the directive (before a trailing comment or continuation). */
 function reductionFix(d: Directive, op: string, name: string): Fix {
