@@ -16,6 +16,7 @@ const PROGRAMS: { file: string; cc: string; flag: string }[] = [
   { file: 'alloc_routine.c', cc: 'gcc', flag: '-fopenacc' },
   { file: 'split_host.c', cc: 'gcc', flag: '-fopenacc' },
   { file: 'edge_rows.c', cc: 'gcc', flag: '-fopenacc' },
+  { file: 'pointer_tables.c', cc: 'gcc', flag: '-fopenacc' },
   { file: 'swap_structs.cpp', cc: 'g++', flag: '-fopenmp' },
   { file: 'swap_structs_fixed.cpp', cc: 'g++', flag: '-fopenmp' },
 ];

@@ -8,7 +8,7 @@ import { relativeToFile } from '../paths';
 import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { isDataConstruct, isOffloadCompute } from '../model/directives';
-import { accessesOfStatement, childStatements, forEachAccessInValue, forEachCallInValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
+import { accessesOfStatement, childStatements, forEachAccessInValue, forEachCallInValue, printValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
 import type { Directive, Finding, Range } from '../types';
 import { rangeWithin } from '../ranges';
 import { type ArrayInfo, arrayInfo } from './arrays';
@@ -148,7 +148,11 @@ export class DataInterpreter {
   private readonly infos = new Map<string, ArrayInfo>();
   private readonly procs: Map<string, Procedure>;
   private readonly seenFindings = new Set<string>();
-  /** Keys of pointers holding device addresses (OpenACC 3.3 §2.7.4 deviceptr; OpenMP 5.2 is_device_ptr, omp_target_alloc). */
+  /**
+   * Keys of pointers holding device addresses (OpenACC 3.3 §2.7.4 deviceptr; OpenMP 5.2
+   * is_device_ptr, omp_target_alloc), and of pointers whose storage cannot be followed (said with
+   * assumed-no-alias): neither is copied, checked for staleness or put in a region.
+   */
   readonly devicePointers = new Set<string>();
 
   constructor(
@@ -237,10 +241,30 @@ export class DataInterpreter {
    * Pointer assignment and swaps: `p = q` makes `p` name `q`'s storage from here on; a struct
    * assignment does the same for every member. Returns true when the statement was an alias.
    */
-  private alias(target: string, value: VExpr, ctx: Ctx): boolean {
-    const source = aliasSource(value);
-    if (!source) return false;
+  private alias(target: string, value: VExpr, ctx: Ctx, at?: Range): boolean {
+    let source = aliasSource(value);
     const frame = ctx.frame;
+    const interior = !source ? interiorBase(value) : undefined;
+    if (interior && at && this.isArray(target, frame) && !isMember(target) && (this.isArray(interior, frame) || isMember(interior))) {
+      // `p = q + off`: p points into q's storage (the standards find it present where q is);
+      // its offset is not followed, so regions through p are counted from q's first element.
+      this.finding('assumed-no-alias', at, this.key(target, frame),
+        `\`${target}\` points into \`${interior}\` (\`${printValueShort(value)}\`): the ledger counts it as \`${interior}\`'s storage for presence and transfers, but does not follow the offset, so slices through \`${target}\` are placed from the start of \`${interior}\`.`, frame);
+      source = interior;
+    }
+    if (!source) {
+      // `p = q + off` or `p = ptrs[k]`: storage the ledger cannot follow. Say so once.
+      const base = arithmeticBase(value);
+      if (at && base && this.isArray(target, frame) && !isMember(target) && (this.isArray(base, frame) || isMember(base))) {
+        this.finding('assumed-no-alias', at, this.key(target, frame),
+          `\`${target}\` is set from \`${printValueShort(value)}\`, which the ledger cannot follow to one array: it counts no transfers and no stale reads through \`${target}\`, assuming it reaches data that is already where the code uses it.`, frame);
+        // Copy on write, as for aliases: the pointer names storage the ledger does not know.
+        frame.rename = new Map(frame.rename).set(target, `?${target}@${at.start.line + 1}`);
+        this.devicePointers.add(`?${target}@${at.start.line + 1}`);
+        return true;
+      }
+      return false;
+    }
     const targetIsArray = this.isArray(target, frame) && !isMember(target);
     const sourceIsArray = this.isArray(source, frame) || isMember(source);
     const structs = !targetIsArray && this.isStruct(target, frame) && this.isStruct(source, frame);
@@ -375,7 +399,7 @@ export class DataInterpreter {
         this.call(s.name, s.args, s.range, ctx);
         return;
       case 'assign':
-        if (s.target.kind === 'var' && s.op === '=' && this.alias(s.target.name, s.value, ctx)) return;
+        if (s.target.kind === 'var' && s.op === '=' && this.alias(s.target.name, s.value, ctx, s.range)) return;
         if (s.target.kind === 'var' && isDeviceAllocation(s.value)) {
           this.devicePointers.add(this.key(s.target.name, ctx.frame));
           return;
@@ -495,7 +519,12 @@ export class DataInterpreter {
 
   private call(name: string, args: VExpr[], at: Range, ctx: Ctx): void {
     const callee = calleesOf(this.model).resolve(name);
-    if (!callee || ctx.frame.depth >= MAX_CALL_DEPTH || callee === ctx.frame.proc) return;
+    if (!callee || callee === ctx.frame.proc) return;
+    if (ctx.frame.depth >= MAX_CALL_DEPTH) {
+      this.finding('assumed-no-alias', at, callee.name,
+        `The call chain reaching \`${callee.name}\` is ${MAX_CALL_DEPTH} calls deep (or recursive); the ledger stops following calls there, so data that \`${callee.name}\` moves or touches is not counted.`, ctx.frame);
+      return;
+    }
     const rename = new Map<string, string>();
     const bindings = new Map(this.bindingsOf(callee));
     callee.params.forEach((p, i) => {
@@ -891,6 +920,28 @@ function loopVariables(s: Stmt): Set<string> {
   return out;
 }
 
+/** The array `q + off` / `off + q` points into. */
+function interiorBase(e: VExpr): string | undefined {
+  let x = e;
+  while (x.kind === 'cast') x = x.operand;
+  if (x.kind === 'bin' && (x.op === '+' || x.op === '-')) return aliasSource(x.left) ?? interiorBase(x.left);
+  return undefined;
+}
+
+/** The array a pointer-arithmetic value starts from: `q + off`, `q - 1`, `ptrs[k]`. */
+function arithmeticBase(e: VExpr): string | undefined {
+  let x = e;
+  while (x.kind === 'cast') x = x.operand;
+  if (x.kind === 'bin' && (x.op === '+' || x.op === '-')) return aliasSource(x.left) ?? arithmeticBase(x.left);
+  if (x.kind === 'index') return x.access.array;
+  return undefined;
+}
+
+function printValueShort(e: VExpr): string {
+  const t = printValue(e);
+  return t.length > 40 ? `${t.slice(0, 37)}...` : t;
+}
+
 function isMember(name: string): boolean {
   return /[.%]|->/.test(name) && !name.includes('::');
 }
@@ -900,6 +951,8 @@ function aliasSource(e: VExpr): string | undefined {
   let x = e;
   for (;;) {
     if (x.kind === 'var') return x.name;
+    // `&u[j*nx]`: a pointer into u's storage (its offset is not followed: regions through it start at u's first element).
+    if (x.kind === 'unary' && x.op === '&' && x.operand.kind === 'index') return x.operand.access.array;
     if (x.kind === 'cast' || (x.kind === 'unary' && x.op === '&')) x = x.operand;
     else if (x.kind === 'index' && x.access.subscripts.every((k) => k !== undefined && S.evaluate(k, new Map()) === 0)) return x.access.array;
     else if (x.kind === 'call' && x.args.length === 0 && /(\.|->)data$/.test(x.name)) return x.name.replace(/(\.|->)data$/, '');
