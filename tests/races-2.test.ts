@@ -168,6 +168,42 @@ describe('shared-scalar-write: which loops and copies race', () => {
     expect(got[0].fixes?.[0].title).toBe('Add private(t) to this OpenMP directive');
   });
 
+  it('declared inside the construct but outside the parallel loop: shared by its threads', async () => {
+    const src = `#define N 64
+double A[N][N], B[N][N];
+void f(void) {
+#pragma omp target teams distribute map(to: A) map(from: B)
+  for (int j = 0; j < N; j++) {
+    double t;
+#pragma omp parallel for
+    for (int i = 0; i < N; i++) { t = A[j][i]; B[j][i] = t * t; }
+  }
+}
+`;
+    const got = await findings(src);
+    expect(codes(got)).toEqual(['shared-scalar-write:t@8']);
+    expect(got[0].message).toContain('declared inside the construct but outside this loop');
+    // The fix goes on the loop that races (the parallel for), not on the distribute loop.
+    expect(got[0].fixes?.[0].edits[0].range.start.line).toBe(6);
+  });
+
+  it('Fortran fixed form: no fix that would push the directive past column 72', async () => {
+    const src = `      subroutine s(a, b, n)
+      integer n, i
+      real*8 a(n), b(n), tmpvariable
+!$acc parallel loop copyin(a) copyout(b) present_or_copy(n)
+      do i = 1, n
+        tmpvariable = a(i)
+        b(i) = tmpvariable
+      end do
+      end
+`;
+    const got = await findings(src, 's.f');
+    expect(codes(got)).toEqual(['shared-scalar-write:tmpvariable@6']);
+    // 58 columns + ' private(tmpvariable)' (21) = 79 > 72.
+    expect(got[0].fixes).toBeUndefined();
+  });
+
   it('a value carried from one iteration to the next is reported without a private fix (it would change the result)', async () => {
     const src = `${prelude}void f(void) {
   double prev = 0.0; int i;

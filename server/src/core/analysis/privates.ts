@@ -230,23 +230,28 @@ class NestContext {
         : `Add \`private(${name})\` to the directive${this.fortran ? '' : `, or declare \`${name}\` inside the loop`}${fix ? ' (quick fix available)' : ''}.`;
     return {
       code: 'shared-scalar-write', severity: 'error', range: s.range, array: name,
-      message: `This loop runs ${loopWords} in parallel and writes the scalar \`${name}\`, declared outside it with no private clause: ${why}, and ${what}. ${todo}`,
+      message: `This loop runs ${loopWords} in parallel and writes the scalar \`${name}\`, which no clause makes private: ${why}, and ${what}. ${todo}`,
       fixes: fix ? [fix] : undefined,
     };
   }
 
   /** Why one copy is shared, in the words of the standard that applies. */
   private whyShared(name: string, d: Directive): string {
+    if (this.declaredWithin(name, this.computeStmt)) {
+      return d.family === 'openmp'
+        ? `declared inside the construct but outside this loop, it is shared by the threads that run the iterations (OpenMP 5.2 §5.1.1)`
+        : `declared inside the compute construct but outside this loop, it has one copy per gang (OpenACC 3.3 §2.6.1), shared by the workers and vector lanes that run the iterations of a gang`;
+    }
     if (d.family === 'openmp') {
       const target = this.compute.construct.startsWith('target');
       return target
-        ? `in \`${this.compute.construct}\` it is firstprivate to the target region and shared by the teams and threads that run the iterations (OpenMP 5.2 §5.1.1)`
-        : `it is shared by the threads that run the iterations (OpenMP 5.2 §5.1.1)`;
+        ? `declared outside the construct, in \`${this.compute.construct}\` it is firstprivate to the target region and shared by the teams and threads that run the iterations (OpenMP 5.2 §5.1.1)`
+        : `declared outside the loop, it is shared by the threads that run the iterations (OpenMP 5.2 §5.1.1)`;
     }
     const kernels = this.compute.construct.startsWith('kernels');
     return kernels
-      ? `in \`kernels\` a scalar is one variable for the whole construct (OpenACC 3.3 §2.6.2), shared by the iterations this \`independent\` loop runs at once`
-      : `in \`${this.compute.construct}\` \`${name}\` is firstprivate, one copy per gang (OpenACC 3.3 §2.6.2), shared by the workers and vector lanes that run the iterations of a gang`;
+      ? `declared outside the construct, in \`kernels\` it is one variable for the whole construct (OpenACC 3.3 §2.6.2), shared by the iterations this \`independent\` loop runs at once`
+      : `declared outside the construct, in \`${this.compute.construct}\` it is firstprivate, one copy per gang (OpenACC 3.3 §2.6.2), shared by the workers and vector lanes that run the iterations of a gang`;
   }
 
   /** True when a data clause in the procedure names the variable (then the host may see its value). */
