@@ -37,7 +37,8 @@ export function isDataConstruct(d: Directive): boolean {
 export function isLoopDirective(d: Directive): boolean {
   const words = d.construct.split(' ');
   if (d.family === 'openacc') return words.includes('loop');
-  return words.some((w) => ['for', 'do', 'distribute', 'loop', 'simd'].includes(w));
+  // Loop-associated constructs (OpenMP 5.2 §4.4): their Fortran end directive is optional.
+  return words.some((w) => ['for', 'do', 'distribute', 'loop', 'simd', 'taskloop', 'tile', 'unroll'].includes(w));
 }
 
 export function clausesNamed(d: Directive, ...names: string[]): Clause[] {
