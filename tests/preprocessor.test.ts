@@ -243,6 +243,24 @@ describe.skipIf(!haveGcc)('preprocessor fixtures compile and run alike in every 
     expect(sums[1]).toBe(sums[0]);
     expect(sums[2]).toBe(sums[0]);
   });
+
+  it('sweep_models.F90 prints one checksum with gfortran -cpp under OpenACC, OpenMP and no offload', () => {
+    if (spawnSync('gfortran', ['--version']).status !== 0) {
+      console.log('skipped: gfortran not found');
+      return;
+    }
+    dir ??= mkdtempSync(join(tmpdir(), 'offload-ledger-pp-'));
+    const sums = ['-fopenacc', '-fopenmp', '-O2'].map((flag, k) => {
+      const exe = join(dir!, `sm${k}`);
+      const c = spawnSync('gfortran', ['-cpp', flag, '-O2', '-Wall', join(FIXTURES, 'sweep_models.F90'), '-o', exe], { encoding: 'utf8', cwd: dir });
+      expect(c.status, c.stderr).toBe(0);
+      const r = spawnSync(exe, [], { encoding: 'utf8', env: { ...process.env, OMP_NUM_THREADS: '2' } });
+      expect(r.status).toBe(0);
+      return r.stdout;
+    });
+    expect(sums[1]).toBe(sums[0]);
+    expect(sums[2]).toBe(sums[0]);
+  });
 });
 
 describe('figures through the preprocessor', () => {
