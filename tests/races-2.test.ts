@@ -204,6 +204,21 @@ void f(void) {
     expect(got[0].fixes).toBeUndefined();
   });
 
+  it('OpenMP: a simd-only inner loop uses the copy of the thread that runs it', async () => {
+    const src = `#define N 64
+double A[N][N], B[N][N];
+void f(void) {
+  double t;
+#pragma omp target teams distribute parallel for private(t) map(to: A) map(from: B)
+  for (int j = 0; j < N; j++) {
+#pragma omp simd
+    for (int i = 0; i < N; i++) { t = A[j][i]; B[j][i] = t * t; }
+  }
+}
+`;
+    expect(codes(await findings(src))).toEqual([]);
+  });
+
   it('a value carried from one iteration to the next is reported without a private fix (it would change the result)', async () => {
     const src = `${prelude}void f(void) {
   double prev = 0.0; int i;

@@ -19,6 +19,9 @@
  *    A `private`, `firstprivate` or `reduction` clause on a combined construct applies to the
  *    loop (§2.11). In `kernels` the implementation decides which loops run in parallel, so only
  *    loops marked `independent` are checked; `auto` and `seq` loops and `serial` are not either.
+ *  - An OpenMP `simd`-only loop (no `for`/`do`/`distribute`/`loop` word) splits one thread's
+ *    iterations over vector lanes; compilers expand scratch scalars per lane, so for scalars the
+ *    copy that counts is the thread's, and such loops are not taken as racing.
  *
  * A scalar is private to the loop L* that races (the innermost such loop around the write) when
  * a private/firstprivate/lastprivate/reduction/linear clause names it on L*'s directive or a
@@ -119,7 +122,13 @@ class NestContext {
    * `independent`), or — for scalars, which have one copy per gang — partitioned over gangs only.
    */
   private races(d: Directive, scalar: boolean): boolean {
-    if (d.family === 'openmp') return this.compute.family === 'openmp';
+    if (d.family === 'openmp') {
+      // A `simd`-only loop splits one thread's iterations over its vector lanes; compilers
+      // expand a scratch scalar per lane, so it is not reported (the thread's copy is what counts).
+      const words = d.construct.split(' ');
+      if (scalar && !words.some((w) => ['for', 'do', 'distribute', 'loop'].includes(w))) return false;
+      return this.compute.family === 'openmp';
+    }
     if (this.compute.family !== 'openacc') return false;
     const has = (n: string): boolean => d.clauses.some((c) => c.canonical === n);
     const construct = this.compute.construct.split(' ')[0];
