@@ -247,6 +247,11 @@ ${pad}int main(void) {
     expect(a.timeLoops[0].steps.value).toBe(250);
   });
 
+  it('a for loop whose bound is not affine is named after its variable (trips_i)', async () => {
+    const a = await analyzeText('void f(double *a, int n) {\n  for (int i = 0; i * i < n; i++) a[i] = 0.0;\n}\n', 'sqrt.c');
+    expect(a.nests[0].iterations).toMatchObject({ value: null, expr: 'trips_i' });
+  });
+
   it('a loop without a counter is named after its procedure and rank (trips_main_1)', async () => {
     const a = await analyzeText(src('').replace('    iter++;\n', ''), 'nocounter.c');
     expect(a.timeLoops[0].timeLoop.loop.variable).toBeUndefined();

@@ -15,8 +15,9 @@
  *
  * Any other way out (`break`, `return`, `goto`, `exit`, `stop`) makes the count an upper bound
  * (`tripCountIsBound`). A loop whose count stays unknown gets a symbol named after its counter
- * (`steps_iter`), or after its procedure and rank (`trips_main_1`), so a binding survives lines
- * being added above it; `legacyTripSymbols` maps the old line-based names (`trips_L20`).
+ * (`steps_iter`), its header's variable (`trips_i`), or its procedure and rank (`trips_main_1`),
+ * so a binding survives lines being added above it; `legacyTripSymbols` maps the old line-based
+ * names (`trips_L20`).
  */
 import * as S from '../symbolic';
 import type { Range } from '../types';
@@ -43,7 +44,9 @@ export function readStepCounters(model: ProgramModel, marked: ReadonlySet<number
           if (!s.tripCount && !s.implied && !s.variable) readCounter(s, proc, outer.concat({ stmts, index: k, loop: false }));
           else if (s.tripCount && !s.implied && exitsOf(s.body).length > 0) s.tripCountIsBound = true;
           if (!s.tripCount && !s.implied) {
-            const base = s.variable ? `steps_${s.variable}` : `trips_${proc.name}_${++rank}`;
+            // A step counter names the steps (`steps_iter`); a header's own variable names the
+            // trips of a loop whose bounds are not affine (`trips_i`); otherwise the procedure does.
+            const base = s.counter ? `steps_${s.variable}` : s.variable ? `trips_${s.variable}` : `trips_${proc.name}_${++rank}`;
             s.tripSymbol = unique(base.replace(/\W+/g, '_'), taken);
             s.tripCount = S.sym(s.tripSymbol);
             legacy.set(s, `trips_L${s.keywordRange.start.line + 1}`);
