@@ -175,10 +175,14 @@ export const OPENMP_CONSTRUCT_SPECS: readonly ConstructSpec[] = [
   // variant, §7.4 metadirective, §8.3 assume, §9.1 tile/unroll, §6.5 allocate, error, nothing).
   ...['requires', 'declare variant', 'begin declare variant', 'metadirective', 'begin metadirective', 'assume', 'assumes',
     'begin assumes', 'error', 'nothing', 'tile', 'unroll', 'allocate', 'allocators', 'scope', 'interop', 'dispatch',
-    'depobj', 'cancel', 'cancellation point', 'declare induction'].map((n) =>
+    'depobj', 'cancel', 'cancellation point', 'declare induction',
+    // OpenMP 6.0 loop transformations and tasking directives, which newer codes already use.
+    'reverse', 'interchange', 'fuse', 'split', 'stripe', 'task_iteration', 'taskgraph', 'workdistribute', 'groupprivate'].map((n) =>
     construct(n, [], {
       unmodelled: true,
-      ...(/^(begin |requires|declare|assumes|error|nothing|allocate$|depobj|cancel|interop)/.test(n) ? { standalone: true } : {}),
+      // Their arguments (`declare variant(f)`, `cancel for`, `allocate(x)`) are read as written.
+      arg: { need: 'optional', shape: 'value' },
+      ...(/^(begin |requires|declare|assumes|error|nothing|allocate$|depobj|cancel|interop|task_iteration|groupprivate)/.test(n) ? { standalone: true } : {}),
       ...(/^(declare variant|assumes|metadirective)$/.test(n) ? { endInC: true } : {}),
     })),
   construct('task', [

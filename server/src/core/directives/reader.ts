@@ -138,11 +138,14 @@ function readConstruct(ctx: ReadCtx, g: FamilyGrammar): Head | undefined {
     } else report(ctx, at, tokenEnd(s, at), `expected an ${g.title} directive name, found '${s.slice(at, tokenEnd(s, at))}'`);
     return undefined;
   }
-  const isEnd = keyword(ctx, first) === 'end';
+  // Fortran also writes end directives with the words joined (`!$OMP ENDDO`, `!$omp endparallel`).
+  const firstWord = keyword(ctx, first);
+  const joined = ctx.fortran && /^end[a-z]/.test(firstWord) && (g.constructs.has(firstWord.slice(3)) || g.prefixes.has(firstWord.slice(3))) ? firstWord.slice(3) : undefined;
+  const isEnd = firstWord === 'end' || joined !== undefined;
   let j = isEnd ? first.end : first.start;
-  const seq: string[] = [];
-  let startWord: Word | undefined;
-  let best: { spec: ConstructSpec; end: number } | undefined;
+  const seq: string[] = joined ? [joined] : [];
+  let startWord: Word | undefined = joined ? first : undefined;
+  let best: { spec: ConstructSpec; end: number } | undefined = joined && g.constructs.get(joined) ? { spec: g.constructs.get(joined)!, end: first.end } : undefined;
   for (;;) {
     const w = readWord(s, skipSpace(s, j));
     if (!w) break;
@@ -175,7 +178,8 @@ function readConstruct(ctx: ReadCtx, g: FamilyGrammar): Head | undefined {
     report(ctx, nameFrom, best.end, `'${spec.name}' has no end directive`);
   }
   const head: Head = { spec, isEnd, next: best.end };
-  if (spec.arg && !isEnd) readConstructArg(ctx, g, head, startWord.start);
+  // `!$omp end critical(name)` repeats the construct's argument.
+  if (spec.arg && (!isEnd || s[skipSpace(s, head.next)] === '(')) readConstructArg(ctx, g, head, startWord.start);
   return head;
 }
 

@@ -3,6 +3,8 @@
  * Construct names are the normalised ones produced by the directive reader.
  */
 import type { Clause, Directive } from '../types';
+import { OPENACC } from '../directives/openacc';
+import { OPENMP } from '../directives/openmp';
 
 const accStandalone = new Set(['update', 'enter data', 'exit data', 'wait', 'declare', 'routine', 'cache', 'init', 'shutdown', 'set']);
 const ompStandalone = new Set([
@@ -14,7 +16,9 @@ const ompStandalone = new Set([
 export function isStandaloneDirective(d: Directive): boolean {
   if (d.isEnd) return true;
   if (d.construct.startsWith('declare') || d.construct.startsWith('begin declare') || d.construct.startsWith('end declare')) return true;
-  return d.family === 'openacc' ? accStandalone.has(d.construct) : ompStandalone.has(d.construct);
+  if (d.family === 'openacc' ? accStandalone.has(d.construct) : ompStandalone.has(d.construct)) return true;
+  // The grammar tables know the rest (`cancel`, `cancellation point`, `interop`, …).
+  return (d.family === 'openacc' ? OPENACC : OPENMP).constructs.get(d.construct)?.standalone === true;
 }
 
 /**
@@ -38,7 +42,7 @@ export function isLoopDirective(d: Directive): boolean {
   const words = d.construct.split(' ');
   if (d.family === 'openacc') return words.includes('loop');
   // Loop-associated constructs (OpenMP 5.2 §4.4): their Fortran end directive is optional.
-  return words.some((w) => ['for', 'do', 'distribute', 'loop', 'simd', 'taskloop', 'tile', 'unroll'].includes(w));
+  return words.some((w) => ['for', 'do', 'distribute', 'loop', 'simd', 'taskloop', 'tile', 'unroll', 'reverse', 'interchange', 'fuse', 'split', 'stripe'].includes(w));
 }
 
 export function clausesNamed(d: Directive, ...names: string[]): Clause[] {

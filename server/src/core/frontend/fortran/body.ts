@@ -126,6 +126,20 @@ export class BodyBuilder {
   }
 
   private region(d: Directive): Stmt {
+    // OpenMP 5.1+: when the structured block is a Fortran BLOCK construct, the end directive is
+    // optional; the construct covers that BLOCK.
+    const blockLine = d.family === 'openmp' ? lineOf(this.cursor.peek(), 'block') : undefined;
+    if (blockLine && /^\s*block\b/i.test(blockLine.text.raw.replace(/^\s*\d+\s+/, ''))) {
+      this.cursor.next();
+      const inner = this.statement(blockLine);
+      const n = this.cursor.peek();
+      let end = lastEnd(inner) ?? d.range.end;
+      if (n?.kind === 'directive' && closes(n.directive, d)) {
+        this.cursor.next();
+        end = n.directive!.range.end;
+      }
+      return { kind: 'block', body: inner, range: { start: d.range.start, end }, directives: [d] };
+    }
     const body = this.frames.length > MAX_NESTING ? [] : this.block({ kind: 'region', directive: d });
     let end = lastEnd(body) ?? d.range.end;
     const n = this.cursor.peek();
