@@ -329,6 +329,20 @@ describe('loop-carried-dependence within the loop bounds', () => {
     expect(got[0].message).toContain('output dependence at distance 1');
   });
 
+  it('a step of 2 writing a[i] and a[i + 1] touches each element once; a[i + 2] = a[i] is carried (distances in values, steps in iterations)', async () => {
+    const src = `${prelude}void f(void) {
+  int i;
+#pragma acc parallel loop
+  for (i = 0; i < N; i += 2) { a[i] = b[i]; a[i + 1] = b[i + 1]; }
+#pragma acc parallel loop
+  for (i = 0; i < N - 2; i += 2) { a[i + 2] = a[i] + 1.0; }
+}
+`;
+    const got = await findings(src);
+    expect(codes(got)).toEqual(['loop-carried-dependence:a@9']);
+    expect(got[0].message).toContain('flow dependence at distance 2');
+  });
+
   it('3-D: a plane index that runs one past the plane overlaps the next plane; one that fits does not', async () => {
     const src = `#define NX 4
 #define NY 3

@@ -168,10 +168,15 @@ function carrier(w: Ref, x: Ref, loops: LoopStmt[], parallel: Set<LoopStmt>, bin
   // x touches the element that w touched `distance` iterations earlier (w at i, x at i + d reads w's i).
   const first = distance.findIndex((d) => d !== 0);
   if (first < 0) return undefined;
+  // Distances are in the variables' values: with a step s only multiples of s are iterations
+  // (`i += 2` writing a[i] and a[i + 1] touches each element once). A solution that is not one is
+  // left to the bounded test, which works in iterations.
+  const steps = loops.map((l) => (l.step ? S.constValue(l.step) : undefined));
+  if (distance.some((d, k) => d !== 0 && (steps[k] === undefined || d % steps[k]! !== 0))) return undefined;
   const loop = loops[first];
   if (!parallel.has(loop)) return undefined;
   const trips = loop.tripCount ? S.evaluate(loop.tripCount, bindings) : undefined;
-  if (trips !== undefined && Math.abs(distance[first]) >= trips) return undefined;
+  if (trips !== undefined && Math.abs(distance[first]) >= trips * steps[first]!) return undefined;
   // d < 0: x reaches back to an element an earlier iteration wrote (flow); d > 0: forward (anti).
   const kind: Carried['kind'] = !x.access.isRead ? 'output' : distance[first] < 0 ? 'flow' : 'anti';
   return { loop, distance: Math.abs(distance[first]), kind };
