@@ -299,6 +299,34 @@ describe('time loops found by dependence', () => {
     expect(a.timeLoops[0].timeLoop.reason).toMatch(/reads `a` \(line 35\) before it writes it \(line 41\)/);
   });
 
+  it('a loop over ensemble members, each stepped in time, is not the time loop: the step loop inside it is', async () => {
+    const src = `#define N 1000
+#define NM 4
+#define NT 50
+static void step(double *u, double *un) {
+#pragma acc parallel loop copyin(u[0:N]) copyout(un[0:N])
+  for (int i = 1; i < N - 1; i++) un[i] = 0.5 * (u[i - 1] + u[i + 1]);
+}
+void run(double *members[NM], double *scratch) {
+  for (int m = 0; m < NM; m++) {
+    double *u = members[m];
+    double *un = scratch;
+    for (int t = 0; t < NT; t++) {
+      step(u, un);
+      double *tmp = u; u = un; un = tmp;
+    }
+  }
+}
+`;
+    const a = await analyzeText(src, 'ensemble.c');
+    expect(a.timeLoops.map((t) => t.timeLoop.loop.variable)).toEqual(['t']);
+    expect(a.timeLoops[0].timeLoop.reason).toContain('swaps `u` and `un`');
+    expect(a.notTimeLoops.map((r) => r.loop.variable)).toEqual(['m']);
+    expect(a.notTimeLoops[0].reason).toContain('picked by `m`');
+    // No nest is rooted at the member loop: the kernel in step is the only nest.
+    expect(a.nests.map((n) => n.nest.procedure.name)).toEqual(['step']);
+  });
+
   it('a repetition loop writing without reading back is an initialisation loop; a serial loop over one nest that carries nothing is no time loop', async () => {
     const init = await analyzeText('#define N 64\nvoid f(double *a, double *b) {\n  for (int r = 0; r < 3; r++) {\n    for (int i = 0; i < N; i++) a[i] = 0.0;\n    for (int i = 0; i < N; i++) b[i] = 1.0;\n  }\n}\n', 'init.c');
     expect(init.timeLoops).toEqual([]);

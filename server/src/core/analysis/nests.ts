@@ -75,6 +75,12 @@ export function scanLoops(model: ProgramModel, options: ScanOptions = {}): NestS
   const named = new Set((options.timeLoopVariables ?? []).map((v) => (fortran ? v.toLowerCase() : v)));
   const out: NestScan = { nests: [], timeLoops: [], rejected: [] };
   for (const proc of model.procedures) {
+    const holdsTimeLoop = (stmts: Stmt[]): boolean =>
+      directLoops(stmts).some((l) => {
+        if (l.directives.some(isOffloadCompute)) return false;
+        const mark = l.markedTimeLoop ? 'annotation' : l.variable && named.has(l.variable) ? 'setting' : undefined;
+        return !!classify(l, proc, workOf(l, withLoops), mark, judge)?.time || holdsTimeLoop(l.body);
+      });
     const visit = (stmts: Stmt[], offload: Directive | undefined, time: TimeLoop | undefined): void => {
       for (const s of stmts) {
         const here = s.directives.find(isOffloadCompute) ?? offload;
@@ -95,8 +101,9 @@ export function scanLoops(model: ProgramModel, options: ScanOptions = {}): NestS
               notTime = v.reason;
             }
             // A host loop around offloaded constructs, or around calls only, is no nest of its
-            // own: the constructs inside it (or in the callees) are.
-            if (work.offloadInside || (work.calls > 0 && work.nested === 0)) {
+            // own: the constructs inside it (or in the callees) are. Nor is a loop around a time
+            // loop (a loop over ensemble members, each stepped in time).
+            if (work.offloadInside || (work.calls > 0 && work.nested === 0) || (v && holdsTimeLoop(s.body))) {
               visit(s.body, here, time);
               continue;
             }

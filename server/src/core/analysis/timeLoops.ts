@@ -64,6 +64,8 @@ interface Frame {
   /** Set inside a branch that runs only for some values of the loop variable (`if (f == 0)`). */
   picked?: string;
   depth: number;
+  /** How many loops inside the judged loop's body enclose the statement (a swap counts at 0 only). */
+  nest: number;
   stack: string[];
 }
 
@@ -96,7 +98,7 @@ export class LoopJudge {
     const events: Event[] = [];
     const edges: { target: string; source: string; line: number }[] = [];
     const swaps: { a: string; b: string; line: number }[] = [];
-    this.walk(loop.body, { proc, aliases: new Map(), canon: new Map(), depth: 0, stack: [proc.name] }, v, events, edges, swaps);
+    this.walk(loop.body, { proc, aliases: new Map(), canon: new Map(), depth: 0, nest: 0, stack: [proc.name] }, v, events, edges, swaps);
     const swap = swaps[0] ?? rotation(edges);
     if (swap) return { time: true, reason: `it swaps \`${swap.a}\` and \`${swap.b}\` every pass (line ${swap.line}), so each pass reads what the previous one wrote` };
     const byArray = new Map<string, Event[]>();
@@ -140,7 +142,7 @@ export class LoopJudge {
     if (enclosesKernels && written.length > 0 && inputs.length > 0) {
       return { time: true, reason: `each pass repeats the same work on the same arrays (reads ${list(inputs)}, writes ${list(written)}; none is indexed or picked by ${v ? `\`${v}\`` : 'the loop'}), so its passes are steps even though none reads what an earlier one wrote` };
     }
-    if (written.length === 0 && ownPassOnly > 0 && picked.size > 0) {
+    if (picked.size > 0) {
       return { time: false, reason: `each pass works on a different array, picked by \`${v ?? '?'}\` (${[...picked].slice(0, 2).map((p) => `\`${p}\``).join(', ')}): nothing carries from one pass to the next` };
     }
     if (written.length === 0 && ownPassOnly > 0) {
@@ -197,7 +199,7 @@ export class LoopJudge {
             const range = s.lower && s.upper ? `${S.toString(S.substitute(s.lower, canon))}..${S.toString(S.substitute(s.upper, canon))}` : s.variable;
             canon.set(s.variable, S.sym(`@${range}`));
           }
-          this.walk(s.body, { ...f, canon }, v, events, edges, swaps);
+          this.walk(s.body, { ...f, canon, nest: f.nest + 1 }, v, events, edges, swaps);
           break;
         }
         case 'block':
@@ -207,7 +209,7 @@ export class LoopJudge {
           for (const x of valuesOfStatement(s)) reads(x);
           // Fortran pointer assignment `p => q` (kept as text by the front end).
           const m = /^\s*([a-z_]\w*)\s*=>\s*([a-z_]\w*)\s*$/i.exec(s.text);
-          if (m) edges.push({ target: this.nameIn(m[1].toLowerCase(), f), source: this.nameIn(m[2].toLowerCase(), f), line });
+          if (m && f.nest === 0) edges.push({ target: this.nameIn(m[1].toLowerCase(), f), source: this.nameIn(m[2].toLowerCase(), f), line });
           break;
         }
         default:
@@ -238,10 +240,12 @@ export class LoopJudge {
   private pointerAssign(target: string, value: VExpr, f: Frame, v: string | undefined, edges: { target: string; source: string; line: number }[], line: number): void {
     const base = strip(value);
     if (base.kind === 'var' && this.isPointer(base.name, f)) {
-      edges.push({ target: this.nameIn(target, f), source: this.nameIn(base.name, f), line });
+      if (f.nest === 0) edges.push({ target: this.nameIn(target, f), source: this.nameIn(base.name, f), line });
       f.aliases.delete(target);
       return;
     }
+    // Any other value sets the pointer afresh for this pass (an empty source marks that).
+    if (f.nest === 0) edges.push({ target: this.nameIn(target, f), source: '', line });
     if (base.kind === 'index' && v) {
       const a = base.access;
       const byV = a.subscripts.some((sub, k) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(a.subscriptValues[k], v)));
@@ -273,12 +277,12 @@ export class LoopJudge {
     };
     if (SWAP.test(name) && args.length === 2) {
       const [a, b] = args.map(arrayArg);
-      if (a && b) swaps.push({ a: a.name, b: b.name, line });
+      if (a && b && f.nest === 0) swaps.push({ a: a.name, b: b.name, line });
       return;
     }
     if (name.toLowerCase() === 'move_alloc' && args.length === 2) {
       const [from, to] = args.map(arrayArg);
-      if (from && to) edges.push({ target: to.name, source: from.name, line });
+      if (from && to && f.nest === 0) edges.push({ target: to.name, source: from.name, line });
       return;
     }
     const callee = this.callees.resolve(name);
@@ -301,7 +305,7 @@ export class LoopJudge {
           here({ array: alias?.array ?? this.nameIn(x.array, f), read: true, write: false, ownPass: !!alias?.ownPass || !!f.picked || byV, picked: alias?.picked ?? f.picked });
         });
       });
-      const inner: Frame = { proc: callee, aliases, canon: new Map(), depth: f.depth + 1, stack: [...f.stack, callee.name], picked: f.picked };
+      const inner: Frame = { proc: callee, aliases, canon: new Map(), depth: f.depth + 1, nest: f.nest, stack: [...f.stack, callee.name], picked: f.picked };
       this.walk(callee.body, inner, v, events, edges, swaps);
       return;
     }
@@ -347,20 +351,26 @@ function firstExposedRead(shared: Event[]): Event | undefined {
   return undefined;
 }
 
-/** A two-name swap is a rotation of length three or more through pointer assignments: a ← b ← t ← a. */
+/**
+ * A two-name swap is a rotation of length three or more through pointer assignments at the top
+ * level of the pass: a ← b ← t ← a. A rotation whose pointers the pass first sets afresh
+ * (`u = members[m]` before the swap) carries nothing from the previous pass.
+ */
 function rotation(edges: { target: string; source: string; line: number }[]): { a: string; b: string; line: number } | undefined {
-  const from = new Map<string, { source: string; line: number }>();
-  for (const e of edges) from.set(e.target, { source: e.source, line: e.line });
+  const from = new Map<string, { source: string; line: number; at: number }>();
+  edges.forEach((e, k) => from.set(e.target, { source: e.source, line: e.line, at: k }));
   for (const start of from.keys()) {
     const seen = [start];
     let cur = start;
     for (let k = 0; k < 8; k++) {
       const next = from.get(cur);
-      if (!next) break;
+      if (!next || next.source === '') break;
       if (next.source === start && seen.length >= 3) {
+        const first = Math.min(...seen.map((n) => from.get(n)!.at));
+        if (edges.slice(0, first).some((e) => seen.includes(e.target))) return undefined;
         // Report the two names that are not the temporary: the one assigned first is the temporary.
-        const order = seen.map((n) => ({ n, line: from.get(n)!.line }));
-        const tmp = order.reduce((a, b) => (b.line < a.line ? b : a));
+        const order = seen.map((n) => ({ n, line: from.get(n)!.line, at: from.get(n)!.at }));
+        const tmp = order.reduce((a, b) => (b.at < a.at ? b : a));
         const named = seen.filter((n) => n !== tmp.n);
         return { a: named[0] ?? seen[0], b: named[1] ?? seen[1], line: Math.max(...order.map((o) => o.line)) };
       }
