@@ -67,9 +67,28 @@ interface Numeric {
   t: number;
 }
 
+/**
+ * Substitutes bindings through the values of the expression's own symbols, each resolved once
+ * per bindings map: substituting with a file's whole table re-reads every key on each call.
+ */
+const resolved = new WeakMap<ReadonlyMap<string, S.Expr>, Map<string, S.Expr>>();
+function bind(e: S.Expr, b: ReadonlyMap<string, S.Expr>): S.Expr {
+  const names = S.freeSymbols(e).filter((n) => b.has(n));
+  if (names.length === 0) return e;
+  let cache = resolved.get(b);
+  if (!cache) resolved.set(b, (cache = new Map()));
+  const small = new Map<string, S.Expr>();
+  for (const n of names) {
+    let v = cache.get(n);
+    if (!v) cache.set(n, (v = S.substitute(S.sym(n), b)));
+    small.set(n, v);
+  }
+  return S.substitute(e, small);
+}
+
 function numericProblem(p: DistanceProblem): Numeric | undefined {
   const value = (e: S.Expr): number | undefined => {
-    const v = S.evaluate(S.substitute(e, p.bindings), new Map());
+    const v = S.constValue(bind(e, p.bindings));
     return v !== undefined && Number.isSafeInteger(v) ? v : undefined;
   };
   const c = p.coeffs.map(value);
@@ -171,12 +190,17 @@ function gcd(a: number, b: number): number {
 const TRIED = [1, -1, 2, -2];
 
 function symbolicSolutions(p: DistanceProblem, carriers: ReadonlySet<number>): Distance[] {
-  const c = p.coeffs.map((x) => S.substitute(x, p.bindings));
-  const t = S.substitute(p.target, p.bindings);
-  const u = p.trips.map((x) => (x ? S.sub(S.substitute(x, p.bindings), S.num(1)) : undefined));
+  const c = p.coeffs.map((x) => bind(x, p.bindings));
+  const t = bind(p.target, p.bindings);
+  const u = p.trips.map((x) => (x ? S.sub(bind(x, p.bindings), S.num(1)) : undefined));
+  if (u.some((x) => !x)) return [];
+  // A solution proven for every size is one at any particular sizes too: the numeric search at
+  // probe values rules most pairs out cheaply before any polynomial is divided.
+  const probe = probeProblem(c, u as S.Expr[], t);
   const out: Distance[] = [];
   for (let k = 0; k < c.length; k++) {
     if (!carriers.has(k) || !u[k]) continue;
+    if (probe && numericSolutions(probe, new Set([k])).length === 0) continue;
     const inner = c.map((_, m) => m).filter((m) => m > k && !isZero(c[m]));
     const solved = trySymbolic(k, inner, c, u, t);
     if (solved) out.push({ carrier: k, vector: solved.map((x) => S.constValue(x) ?? NaN), shown: solved.map((x) => S.toString(x)), symbolic: true });
@@ -222,6 +246,21 @@ function trySymbolic(k: number, inner: number[], c: S.Expr[], u: (S.Expr | undef
     if (inner.length === 0 && isZero(afterCarrier)) return c.map((_, m) => (m === k ? S.num(dk) : S.num(0)));
   }
   return undefined;
+}
+
+/** The problem at probe sizes (distinct primes above 10,000), or undefined when one does not evaluate. */
+function probeProblem(c: S.Expr[], u: S.Expr[], t: S.Expr): Numeric | undefined {
+  const names = [...new Set([...c, ...u, t].flatMap((e) => S.freeSymbols(e)))];
+  const values = new Map(names.map((n, k) => [n, S.num(10_007 + 1_009 * k)]));
+  const value = (e: S.Expr): number | undefined => {
+    const v = S.constValue(S.substitute(e, values));
+    return v !== undefined && Number.isSafeInteger(v) ? v : undefined;
+  };
+  const cs = c.map(value);
+  const us = u.map(value);
+  const tv = value(t);
+  if (tv === undefined || cs.some((x) => x === undefined) || us.some((x) => x === undefined || x < 0)) return undefined;
+  return { c: cs as number[], u: us as number[], t: tv };
 }
 
 function* combinations(n: number): Generator<number[]> {

@@ -31,7 +31,7 @@ import type { Directive, Finding, Fix, Range } from '../types';
 import { rangeWithin } from '../ranges';
 import type { LoopNest } from './nests';
 import { accumulation, privateFindings, type PrivateFindings } from './privates';
-import { solveDistances } from './distances';
+import { solveDistances, type Distance } from './distances';
 
 export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>): Finding[] {
   const out: Finding[] = [];
@@ -112,6 +112,9 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
   visit([nest.root], [], false);
   const out: Finding[] = [];
   const seen = new Set<string>();
+  // Pairs with the same loops, coefficients and difference have the same distances (a stencil's
+  // references mostly do): solve each equation once.
+  const solved = new Map<string, Distance[]>();
   for (const [array, list] of refs) {
     for (const w of list.filter((r) => r.access.isWrite)) {
       for (const x of list) {
@@ -126,7 +129,7 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
           out.push(message(array, w, x, carried));
           continue;
         }
-        const bounded = boundedCarrier(w, x, parallel, outer);
+        const bounded = boundedCarrier(w, x, parallel, outer, solved);
         if (!bounded || privates.privateIn(array, bounded.loop)) continue;
         seen.add(id);
         out.push(boundedMessage(array, w, x, bounded));
@@ -199,7 +202,7 @@ interface Bounded extends Carried {
  * (`distances.ts`), for pairs where that is exact: the same loops around both, no condition,
  * rectangular loops with known trip counts and constant steps.
  */
-function boundedCarrier(w: Ref, x: Ref, parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>): Bounded | undefined {
+function boundedCarrier(w: Ref, x: Ref, parallel: Set<LoopStmt>, bindings: ReadonlyMap<string, S.Expr>, solved: Map<string, Distance[]>): Bounded | undefined {
   if (w.guarded || x.guarded || w.loops.length !== x.loops.length || w.loops.some((l, k) => l !== x.loops[k])) return undefined;
   const loops = w.loops;
   if (loops.length === 0 || loops.some((l) => !l.variable || !l.tripCount || !l.step || l.triangular || (l as { tripCountIsBound?: boolean }).tripCountIsBound)) return undefined;
@@ -213,12 +216,11 @@ function boundedCarrier(w: Ref, x: Ref, parallel: Set<LoopStmt>, bindings: Reado
   if (loops.some((l) => !S.isConst(l.step!))) return undefined;
   const carriers = new Set(loops.map((l, k) => (parallel.has(l) ? k : -1)).filter((k) => k >= 0));
   if (carriers.size === 0) return undefined;
-  const solutions = solveDistances({
-    coeffs: loops.map((l) => S.mul(coeff(w, l), l.step!)),
-    trips: loops.map((l) => l.tripCount),
-    target: S.sub(w.rest, x.rest),
-    bindings,
-  }, carriers);
+  const coeffs = loops.map((l) => S.mul(coeff(w, l), l.step!));
+  const target = S.sub(w.rest, x.rest);
+  const key = `${loops.map((l) => `${l.keywordRange.start.line}:${l.keywordRange.start.col}`).join(',')}|${coeffs.map((c) => c.key).join(',')}|${target.key}`;
+  let solutions = solved.get(key);
+  if (!solutions) solved.set(key, (solutions = solveDistances({ coeffs, trips: loops.map((l) => l.tripCount), target, bindings }, carriers)));
   const first = solutions[0];
   if (!first) return undefined;
   const e = first.vector[first.carrier];
