@@ -63,8 +63,8 @@ export interface PrivateFindings {
 
 /** Both data-sharing checks over one offloaded nest. */
 export function privateFindings(model: ProgramModel, nest: LoopNest): PrivateFindings {
-  const ctx = new NestContext(model, nest);
   if (!nest.offload) return { findings: [], scratchArrays: new Set(), privateIn: () => false };
+  const ctx = new NestContext(model, nest);
   const findings = [...ctx.sharedScalars()];
   const arrays = ctx.scratchArrays();
   findings.push(...arrays.findings);
@@ -91,7 +91,7 @@ class NestContext {
 
   constructor(private readonly model: ProgramModel, private readonly nest: LoopNest) {
     this.scope = new Scope(model, nest.procedure);
-    this.compute = nest.offload ?? { family: 'openacc', construct: '', isEnd: false, clauses: [], range: nest.root.range, text: '' };
+    this.compute = nest.offload!;
     this.fortran = model.language === 'fortran';
     const visit = (loop: LoopStmt, inherited: Governed | undefined, remaining: number): void => {
       const d = loop.directives.find(isLoopDirective);
