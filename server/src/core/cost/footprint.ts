@@ -45,7 +45,9 @@ export interface ArrayFootprint {
  */
 export function linearise(subscripts: S.Expr[], decl: Declaration | undefined, layout: Layout, array: string): S.Expr {
   const m = subscripts.length;
-  if (m === 1) return subscripts[0];
+  // One subscript: C counts from 0; Fortran from its lower bound (1 unless declared), so `p(2)`
+  // is the second element, as the section `p(2:2)` of an update says.
+  if (m === 1) return layout === 'row-major' ? subscripts[0] : S.sub(subscripts[0], decl?.lowerBounds?.[0] ?? S.num(1));
   const dims = decl && decl.dims.length === m ? decl.dims : undefined;
   const extent = (d: number): S.Expr => dims?.[d] ?? S.sym(`extent(${array},${d + 1})`);
   const terms: S.Expr[] = [];
