@@ -37,7 +37,9 @@ export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf:
   const out: Finding[] = [];
   for (const nest of nests) {
     if (!nest.offload) continue;
-    const parallel = parallelLoops(nest);
+    // In an OpenACC kernels region loops are `auto` unless marked `independent` (OpenACC 3.3
+    // §2.9): the compiler must prove them parallel, so a dependence there is not a race.
+    const parallel = kernelsAuto(nest.offload) ? new Set([...parallelLoops(nest)].filter(isIndependent)) : parallelLoops(nest);
     const privates = privateFindings(model, nest);
     if (parallel.size > 0) out.push(...dependences(model, nest, parallel, bindingsOf(nest), privates));
     out.push(...reductions(model, nest));
@@ -298,6 +300,15 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
     const decl = scope.lookup(name);
     if (decl?.isArray) continue;
     const loopDirective = nest.root.directives.find(isLoopDirective) ?? d;
+    if (kernelsAuto(d) && !directives.some((x) => x.clauses.some((c) => c.canonical === 'independent'))) {
+      out.push({
+        code: 'missing-reduction', severity: 'info', range: use.range, array: name,
+        message: `This loop of a \`kernels\` region accumulates into \`${name}\` without a reduction clause. There the compiler must prove each loop parallel itself (OpenACC 3.3 §2.9: loops in kernels are \`auto\`), so the result is right either way, but the loop runs in parallel only if the compiler recognises the reduction; \`reduction(${use.op}:${name})\` on the loop says it for every compiler.`,
+        // A bare `kernels` takes no reduction clause; only a loop directive can carry it.
+        fixes: isLoopDirective(loopDirective) ? [reductionFix(loopDirective, use.op, name)] : undefined,
+      });
+      continue;
+    }
     out.push({
       code: 'missing-reduction', severity: 'error', range: use.range, array: name,
       message: `This offloaded loop accumulates into \`${name}\` (\`${name} = ${use.op === 'max' || use.op === 'min' ? `${use.op}(${name}, …)` : `${name} ${use.op} …`}\`) without a reduction clause; \`${name}\` is firstprivate by default, so each thread ${use.op === 'max' ? 'keeps the largest value in its own copy' : use.op === 'min' ? 'keeps the smallest value in its own copy' : use.op === '*' ? 'multiplies into its own copy' : 'sums into its own copy'} and the host never sees the ${use.op === 'max' ? 'maximum' : use.op === 'min' ? 'minimum' : use.op === '*' ? 'product' : 'total'}. Add \`reduction(${use.op}:${name})\` to the loop directive.`,
@@ -305,6 +316,15 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
     });
   }
   return out;
+}
+
+/** An OpenACC kernels construct: its loops are `auto` unless a loop directive says `independent`. */
+function kernelsAuto(d: Directive): boolean {
+  return d.family === 'openacc' && d.construct.startsWith('kernels');
+}
+
+function isIndependent(loop: LoopStmt): boolean {
+  return loop.directives.some((d) => d.clauses.some((c) => c.canonical === 'independent'));
 }
 
 function nestDirectives(nest: LoopNest): Directive[] {
