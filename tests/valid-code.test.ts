@@ -19,10 +19,8 @@ const DELIBERATE: Record<string, string[]> = {
   'tests/fixtures/data-flow/swap_structs.cpp': ['stale-on-host'],
   'tests/fixtures/index-locals/race.c': ['loop-carried-dependence'],
   'tests/fixtures/races/races.c': ['loop-carried-dependence', 'missing-reduction'],
-  'tests/fixtures/races-2/idx_acc.c': ['shared-scalar-write'],
   'tests/fixtures/races-2/idx_omp.c': ['missing-reduction', 'shared-scalar-write'],
   'tests/fixtures/races-2/overlap.c': ['loop-carried-dependence'],
-  'tests/fixtures/races-2/scratch_acc.f90': ['shared-scalar-write'],
 };
 
 const SOURCE = /\.(c|cpp|cc|cxx|f90|F90|f|F)$/;

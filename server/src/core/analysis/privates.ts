@@ -237,9 +237,13 @@ class NestContext {
       : !use.read && !index && mapped
         ? `Make it private${g.directive.family === 'openmp' ? ' (or lastprivate, if the value of the last iteration is needed after the loop)' : ''}, or set it after the loop.`
         : `Add \`private(${name})\` to the directive${this.fortran ? '' : `, or declare \`${name}\` inside the loop`}${fix ? ' (quick fix available)' : ''}.`;
+    // OpenACC compilers commonly privatise a per-iteration temporary themselves (common
+    // practice), so such code often works although the standard does not promise it: a warning.
+    // OpenMP compilers never do, and a value carried between iterations races everywhere.
+    const oftenWorks = g.directive.family === 'openacc' && !use.exposed;
     return {
-      code: 'shared-scalar-write', severity: 'error', range: s.range, array: name,
-      message: `This loop runs ${loopWords} in parallel and writes the scalar \`${name}\`, which no clause makes private: ${why}, and ${what}. ${todo}`,
+      code: 'shared-scalar-write', severity: oftenWorks ? 'warning' : 'error', range: s.range, array: name,
+      message: `This loop runs ${loopWords} in parallel and writes the scalar \`${name}\`, which no clause makes private: ${why}, and ${what}.${oftenWorks ? ' Many OpenACC compilers privatise such a temporary on their own, but the standard does not promise it.' : ''} ${todo}`,
       fixes: fix ? [fix] : undefined,
     };
   }

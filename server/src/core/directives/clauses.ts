@@ -57,6 +57,8 @@ export function readClauseArgs(ctx: ReadCtx, spec: Pick<ClauseSpec, 'name' | 'sh
       }
       const listFirst = spec.shape === 'suffixed';
       clause.value = norm(ctx, listFirst ? slice(ctx, colon + 1, to) : slice(ctx, from, colon));
+      // `depend(sink: i-1, j)` names an iteration vector, not variables (OpenMP 5.2 §15.9.6).
+      if (!listFirst && /^(sink|source)$/i.test((clause.value ?? '').trim())) return;
       clause.vars = listFirst ? parseVarList(ctx, from, colon) : parseVarList(ctx, colon + 1, to);
       return;
     }

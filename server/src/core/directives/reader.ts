@@ -248,7 +248,9 @@ function readClauses(ctx: ReadCtx, g: FamilyGrammar, head: Head): Clause[] {
     const name = keyword(ctx, w);
     let spec = g.clauses.get(name);
     if (!spec) {
-      report(ctx, w.start, w.end, `unknown ${g.title} clause '${w.text}'`);
+      // An upper-case word is often a macro the build defines (`-DGPU_SCHEDULE=...`).
+      const macroHint = /^[A-Z][A-Z0-9_]*$/.test(w.text) ? `; if it is a macro your build defines, give it with \`--define ${w.text}=...\`` : '';
+      report(ctx, w.start, w.end, `unknown ${g.title} clause '${w.text}'${macroHint}`);
       continue;
     }
     if (g.family === 'openacc' && name === 'self' && head.spec.name === 'update') spec = OPENACC_UPDATE_SELF;

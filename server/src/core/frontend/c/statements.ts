@@ -14,7 +14,8 @@ import { readDeclaration } from './declarations';
 import { type Node, field, namedChildren, operatorOf, rangeOf, unparen } from './nodes';
 import type { MacroTable } from './macros';
 import type { Range, SourceLanguage } from '../../types';
-import { type MacroDef, expandText } from '../../preprocessor';
+import type { MacroDef } from '../../preprocessor';
+import { expandDirectiveMacros, markExpanded } from '../../directives/macros';
 
 export interface StatementContext {
   text: string;
@@ -27,28 +28,6 @@ export interface StatementContext {
   declare(d: Declaration): void;
   /** The preprocessor's macros (file and headers), for directive lines. */
   ppMacros: ReadonlyMap<string, MacroDef>;
-}
-
-/**
- * Expands macros in a `#pragma acc|omp` line where they stand for clauses or construct words
- * (`#pragma omp target teams distribute parallel for MAP_CLAUSES`), as the compiler does for
- * OpenMP and OpenACC pragmas. Arguments inside parentheses keep the names as written: the sizes
- * there stay symbolic (`u[0:NX*NY]`), and section bounds are read with the macros separately.
- */
-export function expandDirectiveMacros(slice: string, macros: ReadonlyMap<string, MacroDef>): { text: string; changed: boolean; unterminated: string[] } {
-  const m = /^(\s*#\s*pragma\s+(?:acc|omp)\b)([\s\S]*)$/.exec(slice);
-  if (!m || macros.size === 0) return { text: slice, changed: false, unterminated: [] };
-  const e = expandText(m[2], macros, { topLevelOnly: true });
-  return e.changed || e.unterminated.length > 0 ? { text: m[1] + e.text, changed: e.changed, unterminated: e.unterminated } : { text: slice, changed: false, unterminated: [] };
-}
-
-function markExpanded(d: Directive, whole: Range): void {
-  d.macroExpanded = true;
-  d.range = whole;
-  for (const c of d.clauses) {
-    c.range = whole;
-    for (const v of c.vars ?? []) v.range = whole;
-  }
 }
 
 export class CStatementBuilder {

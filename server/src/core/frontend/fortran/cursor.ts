@@ -6,6 +6,8 @@
  */
 import type { Directive, Finding, Range } from '../../types';
 import { readDirective } from '../../directives/reader';
+import { expandDirectiveMacros, markExpanded } from '../../directives/macros';
+import type { MacroDef } from '../../preprocessor';
 import { type Line, classify } from './classify';
 import type { SourceItem } from './source';
 
@@ -13,17 +15,25 @@ export type Entry =
   | { kind: 'line'; line: Line }
   | { kind: 'directive'; directive?: Directive; range: Range };
 
-export function entriesOf(items: readonly SourceItem[], directives: Directive[], findings: Finding[]): Entry[] {
+export function entriesOf(items: readonly SourceItem[], directives: Directive[], findings: Finding[], macros?: ReadonlyMap<string, MacroDef>): Entry[] {
   const out: Entry[] = [];
   for (const item of items) {
     if (item.kind === 'stmt') {
       out.push({ kind: 'line', line: classify(item.text, item.label) });
       continue;
     }
-    const r = readDirective(item.slice, item.origin, 'fortran');
+    // A preprocessed file's macros apply in directive lines too (cpp does not know Fortran comments).
+    const expanded = expandDirectiveMacros(item.slice, macros);
+    const r = readDirective(expanded.text, item.origin, 'fortran');
+    const firstLine = item.slice.split('\n')[0];
+    const lines = item.slice.split('\n');
+    const whole: Range = { start: item.origin, end: { line: item.origin.line + lines.length - 1, col: lines.length === 1 ? item.origin.col + firstLine.length : lines[lines.length - 1].length } };
+    if (expanded.changed) {
+      for (const f of r.findings) f.range = whole;
+      if (r.directive) markExpanded(r.directive, whole);
+    }
     findings.push(...r.findings);
     if (r.directive) directives.push(r.directive);
-    const firstLine = item.slice.split('\n')[0];
     const range = r.directive?.range ?? { start: item.origin, end: { line: item.origin.line, col: firstLine.length } };
     out.push({ kind: 'directive', directive: r.directive, range });
   }

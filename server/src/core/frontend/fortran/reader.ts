@@ -55,7 +55,7 @@ export function readFortranInto(model: ProgramModel, text: string, path: string,
       model.bindings.set(key, e);
     }
   }
-  const entries = entriesOf(src.items, model.directives, model.findings);
+  const entries = entriesOf(src.items, model.directives, model.findings, pp?.macros);
   // Names that directives move or map are variables; `routine` and `declare target` may name
   // procedures, and a construct's own argument (`critical(name)`) is no data, so those are left out.
   const dataNames = new Set(
