@@ -11,7 +11,10 @@
  * before the time loop in C (the loop is the structured block), a directive before and an
  * `end` directive after it in Fortran, and `update` lines around the host statements.
  */
-import type { ProgramModel, Stmt } from '../model/program';
+import type { Procedure, ProgramModel, Stmt } from '../model/program';
+import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
+import { calleesOf } from '../model/callees';
+import { isOffloadCompute } from '../model/directives';
 import type { DirectiveFamily, SourceLanguage } from '../types';
 import type { ArrayInfo } from './arrays';
 import type { HostTouch, TimeLoopRun } from './interpreter';
@@ -74,9 +77,14 @@ export function suggestDataRegion(
   const lang = model.language;
   const candidates = [...run.deviceUsed].filter((k) => !k.includes('::') && !run.presentAtEntry.has(k) && !run.devicePointers.has(k) && !infoOf(k)?.isScalar).sort();
   if (candidates.length === 0) return null;
+  // Data that outlives the procedure is needed afterwards only if some host code reads it later:
+  // a global read on the host by any other procedure, a parameter read by a caller after its call.
   const escapes = (k: string): boolean => {
     const d = infoOf(k)?.decl;
-    return !!d && (d.scope === 'global' || d.scope === 'param');
+    if (!d) return false;
+    if (d.scope === 'global') return readOnHostElsewhere(model, k, run.procedure);
+    if (d.scope === 'param') return readByCallerAfterCall(model, run.procedure, k);
+    return false;
   };
   const out: DataRegionSuggestion = { family, clauses: [], edits: [], notes: [], updates: [] };
   const byKind = new Map<Kind, string[]>();
@@ -224,4 +232,69 @@ function precededByStatementBoundary(text: string, offset: number): boolean {
     if (text.slice(i - 1, i + 1) === '*/') { i = text.lastIndexOf('/*', i) - 1; continue; }
     return '{};:'.includes(text[i]);
   }
+}
+
+/** Whether host code of any procedure other than `except` reads the global `name` (outside offloaded constructs). */
+function readOnHostElsewhere(model: ProgramModel, name: string, except: Procedure): boolean {
+  for (const p of model.procedures) {
+    if (p === except || p.locals.some((l) => l.name === name) || p.params.some((l) => l.name === name)) continue;
+    if (hostReads(p.body, name)) return true;
+  }
+  return false;
+}
+
+/**
+ * Whether a caller of `proc` reads, on the host and after the call, the array it passes for the
+ * parameter `param` (statements after the call in the caller's body, in source order). A caller
+ * that cannot be read this way (an argument that is not a plain name) counts as reading it.
+ */
+function readByCallerAfterCall(model: ProgramModel, proc: Procedure, param: string): boolean {
+  const k = proc.params.findIndex((p) => p.name === param);
+  if (k < 0) return true;
+  const callees = calleesOf(model);
+  let called = false;
+  for (const caller of model.procedures) {
+    if (caller === proc) continue;
+    const stmts: Stmt[] = [];
+    walkStatements(caller.body, (s) => { stmts.push(s); });
+    for (let i = 0; i < stmts.length; i++) {
+      const s = stmts[i];
+      if (s.kind !== 'call' || callees.resolve(s.name) !== proc) continue;
+      called = true;
+      const arg = s.args[k];
+      if (!arg || arg.kind !== 'var') return true;
+      // Everything after the call in the caller's statement order (loops around the call make
+      // earlier statements run after it too: then any read in the caller counts).
+      const rest = hasLoopAround(caller.body, s) ? stmts : stmts.slice(i + 1);
+      if (rest.some((x) => x !== s && hostReads([x], arg.name, false))) return true;
+    }
+  }
+  // Nothing calls it here (another file, or the program entry): assume the data is needed.
+  return !called;
+}
+
+function hasLoopAround(body: Stmt[], target: Stmt): boolean {
+  let found = false;
+  const visit = (stmts: Stmt[], inLoop: boolean): void => {
+    for (const s of stmts) {
+      if (s === target) found ||= inLoop;
+      visit(childStatements(s), inLoop || s.kind === 'loop');
+    }
+  };
+  visit(body, false);
+  return found;
+}
+
+/** Host reads of `name` in statements (offloaded constructs excluded; `deep` descends into children). */
+function hostReads(stmts: Stmt[], name: string, deep = true): boolean {
+  let found = false;
+  const visit = (s: Stmt): boolean | void => {
+    if (s.directives.some(isOffloadCompute)) return false;
+    if (accessesOfStatement(s).some((a) => a.array === name && a.isRead)) found = true;
+    if (s.kind === 'call' && s.args.some((a) => a.kind === 'var' && a.name === name)) found = true;
+    if (!deep) return false;
+  };
+  if (deep) walkStatements(stmts, visit);
+  else for (const s of stmts) visit(s);
+  return found;
 }
