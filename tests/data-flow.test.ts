@@ -17,6 +17,8 @@ const PROGRAMS: { file: string; cc: string; flag: string }[] = [
   { file: 'split_host.c', cc: 'gcc', flag: '-fopenacc' },
   { file: 'edge_rows.c', cc: 'gcc', flag: '-fopenacc' },
   { file: 'pointer_tables.c', cc: 'gcc', flag: '-fopenacc' },
+  { file: 'device_ptr_acc.c', cc: 'gcc', flag: '-fopenacc' },
+  { file: 'device_ptr_omp.c', cc: 'gcc', flag: '-fopenmp' },
   { file: 'swap_structs.cpp', cc: 'g++', flag: '-fopenmp' },
   { file: 'swap_structs_fixed.cpp', cc: 'g++', flag: '-fopenmp' },
 ];
