@@ -46,7 +46,7 @@ describe('data-flow programs compile and run', () => {
     expect(c.status, c.stderr).toBe(0);
     const r = spawnSync(exe, [], { encoding: 'utf8', env: { ...process.env, OMP_NUM_THREADS: '2' } });
     expect(r.status).toBe(0);
-    expect(r.stdout).toMatch(/\d\.\d{6}e[-+]\d\d/);
+    expect(r.stdout).toMatch(/\d\.\d{6,8}[eE][-+]\d\d/);
   });
 });
 
