@@ -230,16 +230,21 @@ describe.skipIf(!haveGcc)('gcc -E agrees on the active lines', () => {
 describe.skipIf(!haveGcc)('preprocessor fixtures compile and run alike in every model', () => {
   let dir: string | undefined;
   afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
-  it('jacobi_macro.c prints one checksum with OpenACC, OpenMP and no offload', () => {
-    dir = mkdtempSync(join(tmpdir(), 'offload-ledger-pp-'));
-    const sums = ['-fopenacc', '-fopenmp', '-O2'].map((flag, k) => {
-      const exe = join(dir!, `jm${k}`);
-      const c = spawnSync('gcc', [flag, '-O2', '-Wall', '-Werror', '-std=c11', join(FIXTURES, 'jacobi_macro.c'), '-o', exe, '-lm'], { encoding: 'utf8' });
+  /** Builds one fixture with each flag and returns what each build prints. */
+  const outputs = (compiler: string, file: string, flags: string[], extra: string[]): string[] => {
+    dir ??= mkdtempSync(join(tmpdir(), 'offload-ledger-pp-'));
+    return flags.map((flag, k) => {
+      const exe = join(dir!, `${file.replace(/\W/g, '_')}${k}`);
+      const c = spawnSync(compiler, [flag, '-O2', '-Wall', ...extra, join(FIXTURES, file), '-o', exe], { encoding: 'utf8', cwd: dir });
       expect(c.status, c.stderr).toBe(0);
       const r = spawnSync(exe, [], { encoding: 'utf8', env: { ...process.env, OMP_NUM_THREADS: '2' } });
       expect(r.status).toBe(0);
       return r.stdout;
     });
+  };
+
+  it('jacobi_macro.c prints one checksum with OpenACC, OpenMP and no offload', () => {
+    const sums = outputs('gcc', 'jacobi_macro.c', ['-fopenacc', '-fopenmp', '-O2'], ['-Werror', '-std=c11', '-lm']);
     expect(sums[1]).toBe(sums[0]);
     expect(sums[2]).toBe(sums[0]);
   });
@@ -249,15 +254,7 @@ describe.skipIf(!haveGcc)('preprocessor fixtures compile and run alike in every 
       console.log('skipped: gfortran not found');
       return;
     }
-    dir ??= mkdtempSync(join(tmpdir(), 'offload-ledger-pp-'));
-    const sums = ['-fopenacc', '-fopenmp', '-O2'].map((flag, k) => {
-      const exe = join(dir!, `sm${k}`);
-      const c = spawnSync('gfortran', ['-cpp', flag, '-O2', '-Wall', join(FIXTURES, 'sweep_models.F90'), '-o', exe], { encoding: 'utf8', cwd: dir });
-      expect(c.status, c.stderr).toBe(0);
-      const r = spawnSync(exe, [], { encoding: 'utf8', env: { ...process.env, OMP_NUM_THREADS: '2' } });
-      expect(r.status).toBe(0);
-      return r.stdout;
-    });
+    const sums = outputs('gfortran', 'sweep_models.F90', ['-fopenacc', '-fopenmp', '-O2'], ['-cpp']);
     expect(sums[1]).toBe(sums[0]);
     expect(sums[2]).toBe(sums[0]);
   });

@@ -18,7 +18,7 @@
  */
 import * as S from '../symbolic';
 import type { ArrayAccess, Declaration, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
-import { forEachCallInValue, printValue, toSymbolic, valuesOfStatement } from '../model/values';
+import { forEachAccessInValue, forEachCallInValue, printValue, toSymbolic, valuesOfStatement } from '../model/values';
 import type { Callees } from '../model/callees';
 
 export interface Verdict {
@@ -166,7 +166,7 @@ export class LoopJudge {
         events.push({ array: name, read, write, ownPass, picked: alias?.picked ?? f.picked, line, via: f.depth > 0 ? f.proc.name : undefined, key: keyOf(a, f.canon) });
       };
       const reads = (e: VExpr): void => {
-        forEachAccess(e, (a) => record(a, true, false));
+        forEachAccessInValue(e, (a) => record(a, true, false));
         forEachCallInValue(e, (c) => this.call(c.name, c.args, f, v, events, edges, swaps, line, true));
       };
       switch (s.kind) {
@@ -299,7 +299,7 @@ export class LoopJudge {
           return;
         }
         // A value argument: its element reads happen at the call.
-        forEachAccess(arg, (x) => {
+        forEachAccessInValue(arg, (x) => {
           const alias = f.aliases.get(x.array);
           const byV = !!v && x.subscripts.some((sub, j) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(x.subscriptValues[j], v)));
           here({ array: alias?.array ?? this.nameIn(x.array, f), read: true, write: false, ownPass: !!alias?.ownPass || !!f.picked || byV, picked: alias?.picked ?? f.picked });
@@ -313,7 +313,7 @@ export class LoopJudge {
     for (const [k, a] of args.entries()) {
       const arr = arrayArg(a);
       if (!arr) {
-        forEachAccess(a, (x) => {
+        forEachAccessInValue(a, (x) => {
           const alias = f.aliases.get(x.array);
           here({ array: alias?.array ?? this.nameIn(x.array, f), read: true, write: false, ownPass: !!alias?.ownPass || !!f.picked || (!!v && x.subscripts.some((sub) => !!sub && S.degreeIn(sub, v) !== 0)), picked: alias?.picked ?? f.picked });
         });
@@ -420,30 +420,3 @@ function mentions(e: VExpr | undefined, v: string): boolean {
   }
 }
 
-/** Every array access in a value, nested subscripts included. */
-function forEachAccess(e: VExpr, visit: (a: ArrayAccess) => void): void {
-  switch (e.kind) {
-    case 'index':
-      visit(e.access);
-      for (const s of e.access.subscriptValues) forEachAccess(s, visit);
-      return;
-    case 'bin':
-      forEachAccess(e.left, visit);
-      forEachAccess(e.right, visit);
-      return;
-    case 'unary':
-    case 'cast':
-      forEachAccess(e.operand, visit);
-      return;
-    case 'call':
-      for (const a of e.args) forEachAccess(a, visit);
-      return;
-    case 'cond':
-      forEachAccess(e.test, visit);
-      forEachAccess(e.then, visit);
-      forEachAccess(e.else, visit);
-      return;
-    default:
-      return;
-  }
-}

@@ -12,7 +12,7 @@
  */
 import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, Stmt, VExpr } from '../model/program';
-import { forEachAccessInValue, printValue } from '../model/values';
+import { forEachAccessInValue, printValue, variableNames } from '../model/values';
 
 interface Touched {
   /** Scalars the element's name mentions. */
@@ -41,7 +41,7 @@ export function coveredReads(root: LoopStmt, subscriptsOf: (a: ArrayAccess) => (
       return { key: `${a.array}[${subs.map((s) => s!.key).join('][')}]`, touched: { names, arrays } };
     }
     for (const v of a.subscriptValues) {
-      varNames(v, names);
+      variableNames(v, names);
       forEachAccessInValue(v, (x) => arrays.add(x.array));
     }
     return { key: `${a.array}[${a.subscriptValues.map(printValue).join('][')}]#text`, touched: { names, arrays } };
@@ -80,7 +80,7 @@ export function coveredReads(root: LoopStmt, subscriptsOf: (a: ArrayAccess) => (
           // A callee may assign what it is given (Fortran, C++ references, C `&x`).
           for (const v of s.args) {
             const names = new Set<string>();
-            varNames(v, names);
+            variableNames(v, names);
             for (const n of names) assigned(n, set);
           }
           break;
@@ -141,7 +141,7 @@ function changedIn(loop: LoopStmt): { names: Set<string>; arrays: Set<string> } 
           else arrays.add(s.target.access.array);
           break;
         case 'call':
-          for (const v of s.args) varNames(v, names);
+          for (const v of s.args) variableNames(v, names);
           break;
         case 'other':
           for (const m of s.text.matchAll(textAssignment)) names.add(m[1] ?? m[2] ?? m[3]);
@@ -163,31 +163,3 @@ function changedIn(loop: LoopStmt): { names: Set<string>; arrays: Set<string> } 
   return { names, arrays };
 }
 
-function varNames(e: VExpr, out: Set<string>): void {
-  switch (e.kind) {
-    case 'var':
-      out.add(e.name);
-      return;
-    case 'bin':
-      varNames(e.left, out);
-      varNames(e.right, out);
-      return;
-    case 'unary':
-    case 'cast':
-      varNames(e.operand, out);
-      return;
-    case 'call':
-      for (const a of e.args) varNames(a, out);
-      return;
-    case 'cond':
-      varNames(e.test, out);
-      varNames(e.then, out);
-      varNames(e.else, out);
-      return;
-    case 'index':
-      for (const v of e.access.subscriptValues) varNames(v, out);
-      return;
-    default:
-      return;
-  }
-}

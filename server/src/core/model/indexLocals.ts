@@ -34,7 +34,7 @@ import * as S from '../symbolic';
 import { calleesOf } from './callees';
 import { isDataConstruct, isLoopDirective, isOffloadCompute } from './directives';
 import type { ArrayAccess, AssignStmt, Declaration, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from './program';
-import { printValue, toSymbolic } from './values';
+import { printValue, toSymbolic, variableNames } from './values';
 
 /** Returns the model with index locals substituted into subscripts; the input is not modified. */
 export function substituteIndexLocals(model: ProgramModel): ProgramModel {
@@ -319,7 +319,7 @@ class ProcedurePass {
     const value = this.expand(s.value, frame.env);
     if (!value) return;
     const names = new Set<string>();
-    varNames(value, names);
+    variableNames(value, names);
     if (names.has(name)) return;
     for (const n of names) if (frame.facts.writes.has(n) || frame.facts.innerVars.has(n)) return;
     if (!this.integerScalar(name, names)) return;
@@ -586,31 +586,3 @@ function hasCall(e: VExpr): boolean {
   }
 }
 
-function varNames(e: VExpr, out: Set<string>): void {
-  switch (e.kind) {
-    case 'var':
-      out.add(e.name);
-      return;
-    case 'bin':
-      varNames(e.left, out);
-      varNames(e.right, out);
-      return;
-    case 'unary':
-    case 'cast':
-      varNames(e.operand, out);
-      return;
-    case 'call':
-      for (const a of e.args) varNames(a, out);
-      return;
-    case 'cond':
-      varNames(e.test, out);
-      varNames(e.then, out);
-      varNames(e.else, out);
-      return;
-    case 'index':
-      for (const v of e.access.subscriptValues) varNames(v, out);
-      return;
-    default:
-      return;
-  }
-}

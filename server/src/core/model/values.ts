@@ -133,6 +133,36 @@ export function forEachCallInValue(e: VExpr, visit: (call: VExpr & { kind: 'call
 }
 
 /** The value expressions a statement evaluates itself (not those of nested statements). */
+/** Adds every variable name a value mentions, subscripts of array reads included. */
+export function variableNames(e: VExpr, out: Set<string>): void {
+  switch (e.kind) {
+    case 'var':
+      out.add(e.name);
+      return;
+    case 'bin':
+      variableNames(e.left, out);
+      variableNames(e.right, out);
+      return;
+    case 'unary':
+    case 'cast':
+      variableNames(e.operand, out);
+      return;
+    case 'call':
+      for (const a of e.args) variableNames(a, out);
+      return;
+    case 'cond':
+      variableNames(e.test, out);
+      variableNames(e.then, out);
+      variableNames(e.else, out);
+      return;
+    case 'index':
+      for (const v of e.access.subscriptValues) variableNames(v, out);
+      return;
+    default:
+      return;
+  }
+}
+
 export function valuesOfStatement(s: Stmt): VExpr[] {
   switch (s.kind) {
     case 'assign': return [s.value];
