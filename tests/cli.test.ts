@@ -69,6 +69,8 @@ describe('offload-ledger check', () => {
     ['not a source', ['check', join(tmp, 'notes.txt')], /not a C, C\+\+ or Fortran source/],
     ['calibrate without a compiler', ['calibrate', '--cc', 'no-such-compiler'], /C compiler `no-such-compiler` was not found/],
     ['a bad pool', ['plan', '--pool', 'lots', 'examples'], /--pool expects host=H,device=D/],
+    // --compile-commands names a database the user means: its absence is an input error.
+    ['a missing compilation database', ['check', '--compile-commands', join(tmp, 'none.json'), 'examples'], /none\.json: no such compilation database/],
   ];
   writeFileSync(join(tmp, 'notes.txt'), 'hello');
   for (const [name, args, message] of usage) {

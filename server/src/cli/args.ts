@@ -14,6 +14,8 @@ export interface CommonArgs {
   machines?: string;
   /** `--time-loop VAR`: loop variables (or step counters) that name time loops. */
   timeLoopVariables: string[];
+  /** `--compile-commands FILE`: the compilation database; default the nearest one above each file. */
+  compileCommands?: string;
 }
 
 export interface CheckArgs extends CommonArgs {
@@ -45,8 +47,8 @@ export class UsageError extends Error {}
 export const USAGE = `usage: offload-ledger <command> [options]
 
 commands:
-  check <files|dirs>       loop costs, bytes across the link per time step, stale data, suggested data regions
-  plan <files|dirs>        throughput and cost of many independent runs (--runs N, --pool host=H,device=D)
+  check [files|dirs]       loop costs, bytes across the link per time step, stale data, suggested data regions
+  plan [files|dirs]        throughput and cost of many independent runs (--runs N, --pool host=H,device=D)
   calibrate                measure this machine's memory bandwidth and write a host profile
   serve --stdio            run the language server (also --node-ipc, --socket=N)
 
@@ -61,6 +63,9 @@ options:
   -I, --include-dir DIR    search DIR for #include "..." headers after the file's own folder (repeatable)
   --directives MODEL       which offload model is compiled: openacc (predefines _OPENACC=202211), openmp
                            (_OPENMP=202111) or both; default: the model of the directives in each file
+  --compile-commands FILE  compilation database whose -D/-U/-I/-fopenacc/-fopenmp/-std= flags each file is
+                           read with (default: the nearest compile_commands.json above each file, or in a
+                           build/ folder beside it); with no files given, the files it lists are checked
   --profile NAME           machine profile for the estimates (built-in presets or offload-ledger.machines.json)
   --baseline node|core     host baseline of the speedups: the whole node (default) or one core
   --machines FILE          machines file (default ./offload-ledger.machines.json when present)
@@ -93,6 +98,7 @@ export function parseCli(argv: string[]): CliArgs {
         undefine: { type: 'string', short: 'U', multiple: true },
         'include-dir': { type: 'string', short: 'I', multiple: true },
         directives: { type: 'string' },
+        'compile-commands': { type: 'string' },
         profile: { type: 'string' },
         baseline: { type: 'string' },
         machines: { type: 'string' },
@@ -127,7 +133,7 @@ export function parseCli(argv: string[]): CliArgs {
     };
   }
   if (command !== 'check' && command !== 'plan') throw new UsageError(`unknown command \`${command}\`; the commands are: check, plan, calibrate, serve`);
-  if (paths.length === 0) throw new UsageError(`\`${command}\` needs at least one file or directory`);
+  // No paths: the files of the compilation database (main.ts says so when there is none).
   const bindings = new Map<string, number>();
   for (const b of values.bind ?? []) {
     const m = /^\s*([A-Za-z_][\w.%>-]*)\s*=\s*(-?\d+)\s*$/.exec(b);
@@ -153,6 +159,7 @@ export function parseCli(argv: string[]): CliArgs {
   const common: CommonArgs = {
     format: format as CommonArgs['format'], bindings, profile: values.profile, baseline, machines: values.machines,
     defines, undefines, includeDirs: values['include-dir'] ?? [], directives: directives as CommonArgs['directives'], timeLoopVariables,
+    ...(values['compile-commands'] !== undefined ? { compileCommands: values['compile-commands'] } : {}),
   };
   if (command === 'check') return { command, paths, ...common };
   const runs = positiveInt(values.runs, '--runs') ?? 1;

@@ -10,7 +10,8 @@ import { TOOL_VERSION } from '../core/report';
 import { loadGrammars } from '../grammars';
 import { type CheckArgs, type PlanArgs, USAGE, UsageError, parseCli } from './args';
 import { measure, writeProfile } from './calibrate';
-import { InputError, collectSources, readHeader, readSource } from './files';
+import { InputError, readHeader } from './files';
+import { projectFiles } from './project';
 import { chooseProfile, readMachinesFile } from './machines';
 import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
@@ -55,13 +56,14 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
 
 async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<number> {
   const profile = chooseProfile(readMachinesFile(args.machines), args.profile);
-  const files = collectSources(args.paths).map(readSource);
+  const user = { defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives };
+  // The files (given, or listed by the compilation database) and each one's own preprocessor flags.
+  const { files, settings } = projectFiles(args, user, (line) => err(`offload-ledger: ${line}`));
   const deps = { ...(await loadGrammars()), readInclude: readHeader };
-  const settings = { defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives };
   // Every file's model first, so that a time loop calling a kernel in another file follows it.
-  const models = files.map((f) => buildModel(f, deps, settings));
+  const models = files.map((f, k) => buildModel(f, deps, settings[k]));
   const analyses: FileAnalysis[] = files.map((f, k) =>
-    analyzeSource({ ...f, model: models[k] }, deps, { ...settings, bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }),
+    analyzeSource({ ...f, model: models[k] }, deps, { ...settings[k], bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }),
   );
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);

@@ -6,6 +6,7 @@
 import { fileURLToPath } from 'node:url';
 import { MACHINES_FILE } from '../cli/machines';
 import { neighbourSources } from './analysis/neighbours';
+import { databaseOf, preprocessFor, projectNeighbours } from './analysis/project';
 import { existsSync } from 'node:fs';
 import { dirname, isAbsolute, join } from 'node:path';
 import { readCompilerFlags, splitCommandLine } from '../core/preprocessor/flags';
@@ -95,12 +96,16 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     if (lastStatus.profile !== resolved.label || lastStatus.baseline !== settings.baseline) status({ profile: resolved.label, baseline: settings.baseline });
     const path = pathOfUri(uri);
     const openText = (p: string): string | undefined => documents.all().find((d) => pathOfUri(d.uri) === p)?.getText();
+    // The compilation database (setting, or the nearest compile_commands.json): each file's own flags.
+    const folder = folderOf(path);
+    const user = preprocessOf(settings.preprocessorFlags, folder)!;
+    const db = uri.startsWith('file:') ? databaseOf(path, settings.compileCommands, folder, (m) => config.warn(m)) : undefined;
     return {
       uri, version, text, language,
       path,
-      neighbours: uri.startsWith('file:') ? neighbourSources(path, language, openText) : undefined,
+      neighbours: uri.startsWith('file:') ? projectNeighbours(db, path, language, folder, neighbourSources(path, language, openText), user, openText) : undefined,
       bindings: Object.entries(settings.sizeBindings),
-      preprocess: preprocessOf(settings.preprocessorFlags, folderOf(path)),
+      preprocess: preprocessFor(db, path, user),
       profile: resolved.profile,
       baseline: settings.baseline,
       timeLoopVariables: settings.timeLoopVariables.split(/[\s,]+/).filter((v) => /^[A-Za-z_]\w*$/.test(v)),

@@ -70,6 +70,13 @@ export const SETTINGS = {
     usedBy: 'server',
     markdownDescription: 'Compiler flags the analysis preprocesses with, written as on the compiler\'s command line: `-DNAME[=VALUE]`, `-UNAME`, `-I DIR` (relative to the workspace folder) and `-fopenacc` / `-fopenmp` to choose which of `_OPENACC` (202211) and `_OPENMP` (202111) is predefined; e.g. `-DUSE_GPU -DNX=512 -I include -fopenacc`. Without a model flag, each file is read in the model of its own directives. Other flags are ignored. (The command line\'s `--define`, `--undefine`, `--include-dir` and `--directives` do the same.)',
   },
+  compileCommands: {
+    type: 'string',
+    default: '',
+    scope: 'resource',
+    usedBy: 'server',
+    markdownDescription: 'Path of the compilation database (`compile_commands.json`, as CMake, Meson or Bear write it), absolute or relative to the workspace folder. Each file is read with the `-D`/`-U`, `-I`/`-iquote`/`-isystem`, `-fopenacc`/`-fopenmp` and `-std=` flags of its own entry, under `preprocessorFlags`, and a time loop\'s calls are followed into the other files the database lists. Empty: the nearest `compile_commands.json` above each file, or in a `build/` folder beside one, is used. Nothing in the database is ever run. (The command line\'s `--compile-commands FILE` does the same.)',
+  },
   timeLoopVariables: {
     type: 'string',
     default: '',

@@ -13,6 +13,7 @@ export interface Settings {
   baseline: Baseline;
   sizeBindings: Record<string, number>;
   preprocessorFlags: string;
+  compileCommands: string;
   timeLoopVariables: string;
   severity: Partial<Record<FindingCode, SeveritySetting>>;
   'codeLens.enabled': boolean;

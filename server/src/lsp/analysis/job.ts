@@ -27,20 +27,25 @@ export interface AnalysisJob {
   /** Loop variables the user names as time-loop variables (setting `timeLoopVariables`). */
   timeLoopVariables?: string[];
   view: ViewOptions;
-  /** Other sources beside the document: calls from its time loops into them are followed. */
-  neighbours?: NeighbourSource[];
+  /**
+   * Other sources beside the document (and, with a compilation database, the project's other
+   * sources): calls from its time loops into them are followed. `preprocess`: the file's own flags.
+   */
+  neighbours?: (NeighbourSource & { preprocess?: AnalysisJob['preprocess'] })[];
 }
 
-/** Models of neighbour files, rebuilt only when their text changes (per thread). */
-const neighbourModels = new Map<string, { text: string; model: ProgramModel }>();
+/** Models of neighbour files, rebuilt only when their text or flags change (per thread). */
+const neighbourModels = new Map<string, { text: string; flags: string; model: ProgramModel }>();
 
 function workspaceOf(job: AnalysisJob, deps: AnalyzeDeps): ProgramModel[] | undefined {
   if (!job.neighbours || job.neighbours.length === 0) return undefined;
   return job.neighbours.map((n) => {
+    const pp = n.preprocess ?? job.preprocess;
+    const flags = JSON.stringify(pp ?? null);
     const hit = neighbourModels.get(n.path);
-    if (hit && hit.text === n.text) return hit.model;
-    const model = buildModel(n, deps, analyzeOptions(job));
-    neighbourModels.set(n.path, { text: n.text, model });
+    if (hit && hit.text === n.text && hit.flags === flags) return hit.model;
+    const model = buildModel({ path: n.path, language: n.language, text: n.text }, deps, analyzeOptions({ ...job, preprocess: pp }));
+    neighbourModels.set(n.path, { text: n.text, flags, model });
     return model;
   });
 }
