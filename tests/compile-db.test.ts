@@ -10,6 +10,7 @@
 import { existsSync, mkdirSync, mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { entrySettings, parseCompileDatabase, splitCommand, standardMacros } from '../server/src/core/project/compileDb';
 import { normalisePath, resolvePath } from '../server/src/core/project/paths';
@@ -247,5 +248,55 @@ describe('bad input in a database: one message each, the rest checked', () => {
     expect(r.status).toBe(0);
     expect(existsSync(marker)).toBe(false);
     expect(json(r.stdout).map((f) => f.path)).toEqual(['src/a.c', 'src/b.c']);
+  });
+
+  it('a source that cannot be read (binary) is skipped with one line; a file built twice is checked once, with its first entry', () => {
+    const dir = project();
+    writeFileSync(join(dir, 'src', 'blob.c'), Buffer.from([0x7f, 0x45, 0x4c, 0x46, 0, 1, 2]));
+    writeFileSync(join(dir, 'compile_commands.json'), JSON.stringify([
+      { directory: dir, file: 'src/a.c', arguments: ['cc', '-DFAST', '-Iinc', 'src/a.c'] },
+      { directory: dir, file: 'src/a.c', arguments: ['cc', '-Iinc', '-o', 'a-slow.o', 'src/a.c'] },
+      { directory: dir, file: 'src/blob.c', arguments: ['cc', 'src/blob.c'] },
+    ]));
+    const r = runCli(['check', '--format', 'json'], dir);
+    expect(r.status).toBe(0);
+    expect(r.stderr.trim().split('\n')).toEqual(['offload-ledger: src/blob.c: binary file, not source text; skipped']);
+    const files = json(r.stdout);
+    expect(files.map((f) => f.path)).toEqual(['src/a.c']);
+    expect(files[0].loops[0].offloaded).toBe(true);
+  });
+
+  it('a database found on the way up that cannot be read: one line, the files are checked without it', () => {
+    const dir = project();
+    // A folder where the file should be: found, but not readable as a file.
+    mkdirSync(join(dir, 'compile_commands.json'));
+    const r = runCli(['check', '--format', 'json', 'src'], dir);
+    expect(r.status).toBe(0);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/compile_commands\.json: no such compilation database/);
+    expect(json(r.stdout).map((f) => f.loops[0].offloaded)).toEqual([false, false]);
+  });
+
+  it('the parser never throws, whatever the file holds (property test)', () => {
+    const entry = fc.record({
+      directory: fc.oneof(fc.string(), fc.constant('/w'), fc.constant('rel/dir'), fc.integer()),
+      file: fc.oneof(fc.string(), fc.constant('a.c'), fc.constant('../../x.cpp')),
+      arguments: fc.oneof(fc.array(fc.string()), fc.array(fc.jsonValue()), fc.string()),
+      command: fc.oneof(fc.string(), fc.constant('cc "-DX=\\"unterminated -I'), fc.constant("cc '-Iq")),
+    }, { requiredKeys: [] });
+    fc.assert(fc.property(fc.oneof(fc.jsonValue(), fc.array(fc.oneof(entry, fc.jsonValue()))), (value) => {
+      const db = parseCompileDatabase(JSON.stringify(value) ?? 'null', '/w/compile_commands.json');
+      for (const e of db.entries) {
+        expect(e.file.startsWith('/')).toBe(true);
+        for (const d of e.includeDirs) expect(d.startsWith('/')).toBe(true);
+      }
+      // Every element is either an entry or a problem; a non-array is one problem.
+      if (Array.isArray(value)) expect(db.entries.length + db.problems.length).toBe(value.length);
+      else expect(db.problems).toHaveLength(1);
+    }), { numRuns: 300 });
+    fc.assert(fc.property(fc.string(), (text) => {
+      expect(() => parseCompileDatabase(text, '/w/compile_commands.json')).not.toThrow();
+      expect(() => splitCommand(text)).not.toThrow();
+    }), { numRuns: 300 });
   });
 });
