@@ -332,3 +332,15 @@ describe('generated stencil code', () => {
     expect(loop.footprint.find((f) => f.array === 'in')).toMatchObject({ irregular: false, radius: [1, 1] });
   });
 });
+
+describe('object-like macros that name an element', () => {
+  it('`#define C u[j][i]` on both sides of an assignment reads and writes those elements', async () => {
+    // v = 0.5*u[j][i] + 0.25*(u[j][i+1] + u[j][i-1]): 2 multiplies and 2 adds (4 flops); u read once
+    // with neighbours reused, v written once: 16 bytes per iteration in double (STREAM convention, McCalpin).
+    const text = '#define N 256\n#define C u[j][i]\n#define E u[j][i+1]\n#define W u[j][i-1]\n#define OUT v[j][i]\nstatic double u[N][N], v[N][N];\nvoid f(void) {\n#pragma acc parallel loop collapse(2)\n  for (int j = 1; j < N-1; j++) for (int i = 1; i < N-1; i++) OUT = 0.5*C + 0.25*(E + W);\n}\n';
+    const loop = (fileReport(await analyzeText(text, 'om.c')) as { loops: { flopsPerIteration: number; bytesPerIteration: { device: number }; footprint: { array: string; writes: number }[] }[] }).loops[0];
+    expect(loop.flopsPerIteration).toBe(4);
+    expect(loop.bytesPerIteration.device).toBe(16);
+    expect(loop.footprint.find((f) => f.array === 'v')?.writes).toBe(1);
+  });
+});

@@ -121,6 +121,11 @@ export class CExpressionBuilder {
     // Object-like macros with a literal body are inlined so literal typing sees `0.5f`; named
     // sizes (`NX`) stay symbols so that reports keep the user's names.
     if (macro && /^[-+]?(\d+\.\d*|\.\d+|\d+[eE])/.test(macro.body.trim())) return numberLiteral(macro.body.trim().replace(/^\((.*)\)$/, '$1'));
+    // An object-like macro that names an element (`#define CENTRE u[(j)*NX+(i)]`) reads it.
+    if (macro && macro.body.includes('[') && this.depth < MAX_MACRO_DEPTH) {
+      const template = this.objectTemplate(macro.name, macro.body);
+      if (template) return instantiate(template, [], [], rangeOf(n));
+    }
     return { kind: 'var', name };
   }
 
@@ -176,6 +181,28 @@ export class CExpressionBuilder {
     } finally {
       tree?.delete();
     }
+  }
+
+  private readonly objectTemplates = new Map<string, VExpr | null>();
+
+  /** Parses an object-like macro body once (only those that read an array element). */
+  private objectTemplate(name: string, body: string): VExpr | undefined {
+    if (!this.objectTemplates.has(name)) {
+      this.objectTemplates.set(name, null);
+      const tree = this.ctx.parser.parse(`int __offload_ledger_macro = (${body});`);
+      const init = tree?.rootNode.descendantsOfType('init_declarator')[0];
+      const value = init ? field(init, 'value') : undefined;
+      if (value && !value.hasError) {
+        this.depth++;
+        try {
+          this.objectTemplates.set(name, this.value(value));
+        } finally {
+          this.depth--;
+        }
+      }
+      tree?.delete();
+    }
+    return this.objectTemplates.get(name) ?? undefined;
   }
 
   /** Parses a function-like macro body once, as an expression over its parameter names. */

@@ -245,8 +245,8 @@ export class CStatementBuilder {
       const access = this.ctx.exprs.access(l, true, op !== '=');
       if (access) return { kind: 'assign', target: { kind: 'index', access }, op, value, range, directives: [] };
     }
-    if (l?.type === 'call_expression') {
-      // An index macro on the left (`AT(u,i,j) = …`) expands to the element it names.
+    if (l?.type === 'call_expression' || (l?.type === 'identifier' && this.ctx.macros.objects.get(l.text)?.body.includes('['))) {
+      // An index macro on the left (`AT(u,i,j) = …`, `CENTRE = …`) expands to the element it names.
       const v = this.ctx.exprs.value(l);
       if (v.kind === 'index') {
         const access = { ...v.access, isWrite: true, isRead: op !== '=' };
