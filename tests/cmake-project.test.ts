@@ -150,6 +150,10 @@ describe.skipIf(!tools)('a CMake project read through compile_commands.json', ()
     const tl = main.timeLoops[0];
     expect(tl.perStep.toDevice.value).toBe(3 * 1048576);
     expect(tl.perStep.toHost.value).toBe(2 * 1048576);
+    // The number of steps comes from argv with a literal default: 200, and the report says so.
+    expect(tl.steps.value).toBe(200);
+    expect(main.loops[0].assumptions).toEqual(['assuming steps = 200, the default when no argument is given (line 8); another value: --bind steps=VALUE']);
+    expect(main.findings.filter((f) => f.code === 'unknown-extent')).toEqual([]);
     expect(main.findings.filter((f) => f.code === 'transfer-in-time-loop').map((f) => f.line).sort()).toEqual([13, 14, 14]);
   });
 

@@ -40,13 +40,16 @@ export function formatFile(a: FileAnalysis): string {
       ]);
     }
     lines.push(formatTable(rows).replace(/^/gm, '  '));
-    // One line per assumption, with the loops that rest on it.
-    const assumed = new Map<string, number[]>();
-    for (const r of a.nests) {
-      for (const x of r.nest.procedure.assumptions ?? []) assumed.set(x, [...(assumed.get(x) ?? []), r.nest.root.keywordRange.start.line + 1]);
-    }
-    for (const [x, at] of assumed) lines.push(`  assumed (line${at.length === 1 ? '' : 's'} ${at.join(', ')}): ${x}`);
   }
+  // One line per assumption, with the loops that rest on it (nests, and time loops whose steps may).
+  const assumed = new Map<string, number[]>();
+  for (const r of a.nests) {
+    for (const x of r.nest.procedure.assumptions ?? []) assumed.set(x, [...(assumed.get(x) ?? []), r.nest.root.keywordRange.start.line + 1]);
+  }
+  for (const t of a.timeLoops) {
+    for (const x of t.timeLoop.procedure.assumptions ?? []) assumed.set(x, [...(assumed.get(x) ?? []), t.timeLoop.loop.keywordRange.start.line + 1].sort((p, q) => p - q));
+  }
+  for (const [x, at] of assumed) lines.push(`  assumed (line${at.length === 1 ? '' : 's'} ${at.join(', ')}): ${x}`);
   for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
   for (const r of a.notTimeLoops) lines.push(`  not a time loop: line ${r.loop.keywordRange.start.line + 1} (${r.loop.variable ?? 'while'} in ${r.procedure.name}): ${r.reason}`);
   if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.nests[0].estimate?.baseline === 'core' ? 'one-core' : 'whole-node'} baseline; ranges from documented efficiency bounds. Measure on the target machine to decide.`);

@@ -19,6 +19,7 @@ import { CStatementBuilder } from './statements';
 import { TemplateUses, TypeAliases } from './templates';
 import { readStepCounters } from '../../model/stepCounters';
 import { markedLoopLines } from '../annotations';
+import { inputDefaults } from './inputDefaults';
 
 /**
  * `source` is the preprocessed text (inactive branches blanked, same lines and columns) with the
@@ -268,6 +269,12 @@ class CModelBuilder {
       });
       for (const d of p.locals) {
         if (d.init && (d.isConst || (local.get(d.name) ?? 0) <= 1)) p.bindings.set(d.name, d.init);
+      }
+      // Sizes read from argv or the environment with a constant default: the default, said.
+      for (const d of inputDefaults(p, local)) {
+        if (p.bindings.has(d.name)) continue;
+        p.bindings.set(d.name, d.value);
+        p.assumptions = [...(p.assumptions ?? []), d.note];
       }
     }
   }
