@@ -12,6 +12,7 @@ import { type CheckArgs, type PlanArgs, USAGE, UsageError, parseCli } from './ar
 import { measure, writeProfile } from './calibrate';
 import { InputError, readHeader } from './files';
 import { projectFiles } from './project';
+import { linkAcrossFiles } from '../core/project/crossFile';
 import { chooseProfile, readMachinesFile } from './machines';
 import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
@@ -65,6 +66,8 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   const analyses: FileAnalysis[] = files.map((f, k) =>
     analyzeSource({ ...f, model: models[k] }, deps, { ...settings[k], bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }),
   );
+  // A transfer or stale access in a callee of another file: reported at the call and at the callee, linked.
+  if (analyses.length > 1) linkAcrossFiles(analyses, (p) => files.find((f) => f.path === p)?.text);
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);
   }

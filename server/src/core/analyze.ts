@@ -111,6 +111,20 @@ export interface TimeLoopReport {
   /** The per-step data ledger; absent for a time loop nested inside another (the outer one is the step). */
   ledger?: TimeLoopLedger;
   estimate?: StepEstimate;
+  /**
+   * The what-if behind `estimate.withRegion`: this loop's ledger in the file with the suggested
+   * edits applied (its lines are lines of the edited text) and its step work. The planning report
+   * draws the transfers before and after from it.
+   */
+  withRegion?: WhatIf;
+}
+
+/** One time loop of the file analysed again with the suggested data regions applied. */
+export interface WhatIf {
+  ledger: TimeLoopLedger;
+  work: StepWork | null;
+  /** The nests of the edited file (and of other files it runs), whose costs the step work holds. */
+  nests: NestReport[];
 }
 
 export interface FileAnalysis {
@@ -201,8 +215,8 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
       const ledger = data.ledgers.find((l) => l.loop === tl.loop);
       const k = ledger ? data.ledgers.indexOf(ledger) : -1;
-      const estimate = ledger ? stepEstimate(ledger, allNests, profile, baseline, fixed[k]) : undefined;
-      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate });
+      const estimate = ledger ? stepEstimate(ledger, allNests, profile, baseline, fixed[k]?.work) : undefined;
+      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate, ...(fixed[k] ? { withRegion: fixed[k]! } : {}) });
     }
     result.findings.push(...unknownExtentFindings(result));
   } catch (err) {
@@ -217,7 +231,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
  * analysed again with the edits in, so "what the fix is worth" comes from the same model as
  * everything else rather than from a guess. Returns one entry per ledger (null when no region).
  */
-function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions, ledgers: TimeLoopLedger[]): (StepWork | null)[] {
+function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions, ledgers: TimeLoopLedger[]): (WhatIf | null)[] {
   const edits = ledgers.flatMap((l) => l.dataRegion?.edits ?? []);
   if (edits.length === 0) return ledgers.map(() => null);
   const after = analyzeSource({ ...input, model: undefined, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false });
@@ -227,7 +241,8 @@ function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions,
     const same = afterLedgers.filter((a) => a.procedure.name === l.procedure.name);
     const mine = ledgers.filter((x) => x.procedure.name === l.procedure.name).indexOf(ledgers[k]);
     const match = same[mine];
-    return match ? stepWork(match, [...after.nests, ...after.externalNests]) : null;
+    const nests = [...after.nests, ...after.externalNests];
+    return match ? { ledger: match, work: stepWork(match, nests), nests } : null;
   });
 }
 

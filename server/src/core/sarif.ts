@@ -29,6 +29,15 @@ export function sarifLog(analyses: FileAnalysis[], uriOf: (path: string) => stri
         message: { text: f.message },
         locations: [{ physicalLocation: { artifactLocation: { uri }, region: region(f.range) } }],
       };
+      // §3.27.22 relatedLocations: the other end of a finding that spans two files (the call in
+      // the time loop, the directive in the callee), each a location (§3.28) with an id and a message.
+      if (f.related && f.related.length > 0) {
+        result.relatedLocations = f.related.map((r, id) => ({
+          id,
+          physicalLocation: { artifactLocation: { uri: uriOf(r.path) }, region: region(r.range) },
+          message: { text: r.message },
+        }));
+      }
       if (f.fixes && f.fixes.length > 0) {
         result.fixes = f.fixes.map((fix) => ({
           description: { text: fix.title },

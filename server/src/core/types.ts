@@ -58,6 +58,18 @@ export interface Finding {
   array?: string;
   /** Quick fixes for this finding, in order of preference. */
   fixes?: Fix[];
+  /**
+   * Other places the finding is about, in this or another file (the directive in a callee that
+   * a call in the time loop reaches, or that call): LSP relatedInformation, SARIF relatedLocations.
+   */
+  related?: RelatedLocation[];
+}
+
+/** A place a finding points to besides its own range; `path` as the file's analysis names it. */
+export interface RelatedLocation {
+  path: string;
+  range: Range;
+  message: string;
 }
 
 export type DirectiveFamily = 'openacc' | 'openmp';

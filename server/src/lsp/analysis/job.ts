@@ -11,6 +11,7 @@ import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
 import { buildView } from '../view/build';
+import { linkCallers } from './callers';
 import type { DocumentView, ViewOptions } from '../view/types';
 
 export interface AnalysisJob {
@@ -64,7 +65,10 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps): DocumentView {
   const t0 = performance.now();
   // Headers are read from disk in the worker, as the CLI reads them.
   const deps: AnalyzeDeps = { ...grammars, readInclude: readHeader };
-  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace: workspaceOf(job, deps) });
+  const workspace = workspaceOf(job, deps);
+  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace });
+  // Findings that span two files: linked to the other end, and those of callers' time loops that land here.
+  linkCallers(job, analysis, workspace, deps);
   const ms = performance.now() - t0;
   return buildView(
     { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: ms },

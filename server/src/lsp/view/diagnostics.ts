@@ -2,6 +2,7 @@
  * Findings as LSP diagnostics: the finding code in `Diagnostic.code` with a link to its page,
  * the severity the user chose for that code (or the core's default), and the array in `data`.
  */
+import { pathToFileURL } from 'node:url';
 import { DiagnosticSeverity, type Diagnostic } from 'vscode-languageserver-protocol';
 import type { Finding, Severity } from '../../core/types';
 import { toLspRange } from './ranges';
@@ -28,5 +29,9 @@ export function toDiagnostic(f: Finding, severityOverrides: Record<string, strin
     source: DIAGNOSTIC_SOURCE,
     message: f.message,
     ...(f.array ? { data: { array: f.array } } : {}),
+    // The other end of a finding that spans two files (the call, or the directive in the callee).
+    ...(f.related && f.related.length > 0
+      ? { relatedInformation: f.related.map((r) => ({ location: { uri: pathToFileURL(r.path).href, range: toLspRange(r.range) }, message: r.message })) }
+      : {}),
   };
 }
