@@ -3,6 +3,7 @@
 // Runs from `npm install` (prepare) so that `npx offload-ledger` works from a fresh clone.
 import { build } from 'esbuild';
 import { existsSync } from 'node:fs';
+import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { writeGrammars } from './grammars.mjs';
@@ -13,6 +14,13 @@ if (!existsSync(entry)) {
   console.log('build: nothing to bundle yet');
   process.exit(0);
 }
+
+// Vega's canvas module looks for the optional node-canvas package with a top-level await, which a
+// CommonJS bundle cannot hold. The planning report renders SVG only, which needs no canvas, so the
+// bundles take the module's browser build (no canvas in Node: Vega then estimates text widths).
+const requireServer = createRequire(join(root, 'server', 'package.json'));
+const vegaCanvas = join(dirname(requireServer.resolve('vega-canvas')), 'vega-canvas.browser.js');
+const alias = { 'vega-canvas': vegaCanvas };
 
 const serverEntries = {
   cli: entry,
@@ -33,6 +41,7 @@ await build({
   sourcemap: true,
   // The grammar loader resolves .wasm files from the installed npm packages at run time.
   external: ['web-tree-sitter', 'tree-sitter-c', 'tree-sitter-cpp'],
+  alias,
   // The sources use import.meta.url (ESM); the CommonJS bundle derives it from __filename.
   define: { 'import.meta.url': 'importMetaUrl' },
   banner: { js: "const importMetaUrl = require('url').pathToFileURL(__filename).href;" },
@@ -49,6 +58,7 @@ await build({
   format: 'cjs',
   sourcemap: true,
   external: ['vscode'],
+  alias,
   logLevel: 'warning',
 });
 

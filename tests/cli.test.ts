@@ -6,7 +6,7 @@ import { mkdtempSync, writeFileSync, mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { runCli, schemaValidator } from './helpers';
+import { ROOT, runCli, schemaValidator } from './helpers';
 
 const tmp = mkdtempSync(join(tmpdir(), 'ol-cli-'));
 
@@ -141,12 +141,22 @@ describe('offload-ledger check --format html', () => {
     const r = runCli(['check', '--format', 'html', 'examples/hall/hall_naive_acc.c']);
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/^<!DOCTYPE html>/);
-    expect(r.stdout).toContain('Time loop at line 116');
+    expect(r.stdout).toContain('time loop at <a class="src" href="examples/hall/hall_naive_acc.c">examples/hall/hall_naive_acc.c:116</a>');
     expect(r.stdout).toContain('pcie4-hbm2e');
     expect((r.stdout.match(/<svg/g) ?? []).length).toBeGreaterThanOrEqual(2);
     // Self-contained: no scripts and nothing fetched (a CSP with default-src 'none').
     // (The SVG namespace URI is a name, not a fetch.)
     expect(r.stdout).not.toMatch(/<script|(src|href)=["']?https?:/);
     expect(r.stdout).toContain("default-src 'none'");
+  });
+
+  it('shows paths relative to the working directory, as path:line links, even for absolute arguments', () => {
+    const r = runCli(['check', '--format', 'html', join(ROOT, 'examples', 'hall', 'hall_naive_acc.c')]);
+    expect(r.status).toBe(0);
+    expect(r.stdout).not.toContain(ROOT);
+    // The time loop of hall_naive_acc.c is at line 116 (examples/README.md demo summary, the code lens line).
+    expect(r.stdout).toContain('<a class="src" href="examples/hall/hall_naive_acc.c">examples/hall/hall_naive_acc.c:116</a>');
+    // The project summary comes before the detail per file.
+    expect(r.stdout.indexOf('Project summary')).toBeLessThan(r.stdout.indexOf('Per file'));
   });
 });

@@ -7,12 +7,14 @@ import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { describe, expect, it } from 'vitest';
-import { renderPlanning, barChart, bytes } from '../server/src/planning/render';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { renderPlanning, bytes } from '../server/src/planning/render';
 import { FORTRAN_EXTENSIONS, documentSelector } from '../client/src/selector';
 import { languageOfPath } from '../server/src/core/language';
 import { ClientCommands } from '../server/src/lsp/protocol';
 import type { PlanningData } from '../server/src/lsp/protocol';
+import { machineRoofs } from '../server/src/lsp/view/planning';
+import { presetProfile } from '../server/src/core/machine/profiles';
 
 const ROOT = join(__dirname, '..');
 const pkg = JSON.parse(readFileSync(join(ROOT, 'package.json'), 'utf8'));
@@ -62,7 +64,7 @@ describe('planning view', () => {
         uri: 'file:///w/a<b>.c',
         path: '/w/a<b>.c',
         language: 'c',
-        loops: [{ line: 5, endLine: 9, function: 'main', variables: ['i'], offloaded: true, directive: 'openacc', iterations: { value: 1000, expr: 'N' }, flopsPerIteration: 2, bytesPerIteration: { device: 12, host: 16 }, arithmeticIntensity: { device: 0.17 } }],
+        loops: [{ line: 5, endLine: 9, function: 'main', variables: ['i'], offloaded: true, directive: 'openacc', iterations: { value: 1000, expr: 'N' }, flopsPerIteration: 2, bytesPerIteration: { device: 12, host: 16 }, arithmeticIntensity: { device: 0.17, host: 0.125 }, precision: 'double', parallel: true }],
         timeLoops: [
           {
             line: 3, endLine: 12, function: 'main', variable: 't', steps: { value: 100, expr: 'STEPS' },
@@ -72,30 +74,61 @@ describe('planning view', () => {
             dataRegion: { clauses: [{ array: 'u', clause: 'copyin', section: 'u[0:N]' }], edits: [] },
             residentBytes: 8192,
             estimate: { profile: 'pcie4-hbm2e', baseline: 'node', hostSeconds: 1e-3, deviceSeconds: 2e-3, kernelSeconds: 1e-4, launchSeconds: 5e-6, transferSeconds: 1.8e-3, hostLeftSeconds: 0, speedup: { low: 0.4, expected: 0.5, high: 0.6 }, bound: 'transfer', withRegion: { deviceSeconds: 1.1e-4, speedup: { low: 7, expected: 9, high: 10 }, bound: 'memory' }, residentBytes: 8192, runsPerDevice: 1000 },
+            // 2 flops × 1000 iterations per step; the region keeps u resident, so nothing crosses per step.
+            step: {
+              flops: 2000, linkBytes: 8192, linkBytesWithRegion: 0, withRegionSeconds: { kernels: 1e-4, launches: 5e-6, transfers: 0, host: 0 },
+              nests: [{ path: '/w/a<b>.c', line: 5, offloaded: true, parallel: true, secondsPerStep: 1e-4, share: 0.05, hostShare: 1, shareWithRegion: 0.95 }],
+              transfersWithRegion: [],
+            },
           },
         ],
+        machine: machineRoofs(presetProfile('pcie4-hbm2e')!, 'node'),
       },
     ],
   };
-  const html = renderPlanning(data, { cspSource: 'vscode-resource:', focusUri: 'file:///w/a<b>.c', focusLine: 2 });
+  let html = '';
+  let editor = '';
+  beforeAll(async () => {
+    html = await renderPlanning(data, { cspSource: 'vscode-resource:', focusUri: 'file:///w/a<b>.c', focusLine: 2 });
+    // The editor's options: workspace-relative names, command links to the source, points that open it too.
+    editor = await renderPlanning(data, {
+      cspSource: 'vscode-resource:',
+      displayPath: (p) => p.replace(/^\/w\//, ''),
+      sourceHref: (p) => `command:offloadLedger.openSource?${encodeURIComponent(JSON.stringify([p.uri ?? p.path, p.line]))}`,
+      chartsOpenSource: true,
+    });
+  }, 60_000);
   it('runs no script and loads nothing: its CSP allows inline styles only (VS Code webview guidance)', () => {
     expect(html).toContain("default-src 'none'");
     expect(html).not.toMatch(/<script/i);
-    expect(html).not.toMatch(/https?:\/\/(?!www\.w3\.org\/2000\/svg)/);
+    // Only XML namespace names (never fetched) are http addresses.
+    for (const m of html.matchAll(/https?:\/\/[^"\s]*/g)) expect(['http://www.w3.org/2000/svg', 'http://www.w3.org/1999/xlink']).toContain(m[0]);
   });
   it('escapes file names and marks the time loop the code lens came from', () => {
     expect(html).toContain('/w/a&lt;b&gt;.c');
-    expect(html).toContain('<section class="focus" id="L3">');
+    expect(html).toContain('<section class="timeloop focus" id="T1">');
   });
-  it('draws the bytes per step and the step times as SVG bars, with the speedup range', () => {
-    expect(html).toContain('8.0 KiB/step');
-    expect(html).toMatch(/<svg[^>]*aria-label="one time step: host only against offload"/);
-    expect(html).toContain('0.4–0.6× (expected 0.5×), bound by transfer');
-    expect(html).toContain('7–10×');
+  it('draws the roofline, the bytes per step and the step times with Vega, with each plan\'s speedup and bound', () => {
+    expect(html).toMatch(/<svg role="img" aria-label="roofline: [^"]*"/);
+    expect(html).toMatch(/<svg role="img" aria-label="time loop T1: [^"]*"/);
+    // The one array u: 8192 B to the device per step as written, nothing with the region (the data above).
+    expect(html).toContain('aria-label="u, as written, to the device: 8192 B per step"');
+    expect(html).toContain('0.4–0.6× (expected 0.5×)');
+    expect(html).toContain('bound by transfers across the link');
+    expect(html).toContain('7–10× (expected 9×)');
   });
-  it('says when there is nothing to show', () => {
-    expect(renderPlanning({ ...data, files: [] }, { cspSource: 'x' })).toContain('No analysed C, C++ or Fortran document yet');
-    expect(barChart([], bytes, 't')).toBe('');
+  it('shows workspace-relative paths and opens source lines through the one command the webview allows', () => {
+    expect(editor).not.toContain('/w/');
+    const link = `command:offloadLedger.openSource?${encodeURIComponent(JSON.stringify(['file:///w/a<b>.c', 5]))}`;
+    // The nest's table row and its roofline point (an SVG link) open line 5.
+    expect(editor).toContain(`<a class="src" href="${link.replace(/&/g, '&amp;')}">a&lt;b&gt;.c:5</a>`);
+    expect(editor).toContain(`xlink:href="${link.replace(/&/g, '&amp;')}"`);
+    // The HTML file (no sourceHref): the relative path, and points that go to their row.
+    expect(html).toMatch(/<a class="src" href="\/w\/a%3Cb%3E\.c">\/w\/a&lt;b&gt;\.c:5<\/a>/);
+    expect(html).toContain('xlink:href="#N1"');
+  });
+  it('says when there is nothing to show', async () => {
+    expect(await renderPlanning({ ...data, files: [] }, { cspSource: 'x' })).toContain('No analysed C, C++ or Fortran document yet');
     // 1 KiB = 1024 B (IEC 80000-13 binary prefixes, as the CLI prints them).
     expect(bytes(1536)).toBe('1.5 KiB');
   });

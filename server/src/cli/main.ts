@@ -16,8 +16,7 @@ import { linkAcrossFiles } from '../core/project/crossFile';
 import { chooseProfile, readMachinesFile } from './machines';
 import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
-import { buildPlanning, hasEstimates } from '../lsp/view/planning';
-import { renderPlanning } from '../planning/render';
+import { planningHtml } from '../planning/html';
 import { startServer } from '../lsp';
 
 type Out = (s: string) => void;
@@ -79,15 +78,9 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   }
   if (args.format === 'json') out(JSON.stringify(report(analyses), null, 2));
   else if (args.format === 'sarif') out(JSON.stringify(sarifLog(analyses, (p) => relative(process.cwd(), p).split(sep).join('/')), null, 2));
-  else if (args.format === 'html') out(planningHtml(analyses, profile.name, args.baseline));
+  else if (args.format === 'html') out(await planningHtml(analyses, profile.name, args.baseline));
   else out(analyses.map(formatFile).join('\n\n'));
   return analyses.some((a) => a.findings.some((f) => f.severity === 'error')) ? 1 : 0;
-}
-
-/** The planning report as one self-contained HTML page: the editor's planning view, for review and sharing. */
-function planningHtml(analyses: FileAnalysis[], profile: string, baseline: string): string {
-  const files = analyses.map((a) => buildPlanning(a, a.path));
-  return renderPlanning({ profile, baseline, estimatesAvailable: analyses.some(hasEstimates), files }, { cspSource: "'self'" });
 }
 
 /** Runs the CLI on this process's arguments and sets its exit code. */

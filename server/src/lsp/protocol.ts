@@ -72,10 +72,16 @@ export interface ReportLoop {
   bytesPerIteration: { device: number; host: number };
   arithmeticIntensity: { device?: number; host?: number };
   estimate?: NestEstimate;
+  /** Planning view only: single precision when no array of the nest has elements wider than 4 bytes. */
+  precision?: 'single' | 'double';
+  /** Planning view only: false for a nest no directive parallelises (it runs on one host core). */
+  parallel?: boolean;
 }
 
 export interface ReportTransfer {
   line: number;
+  /** The file of the directive when it is in another file of the workspace. */
+  file?: string;
   via?: number[];
   array: string;
   direction: 'toDevice' | 'toHost';
@@ -96,6 +102,61 @@ export interface ReportTimeLoop {
   dataRegion: { clauses: { array: string; clause: string; section?: string }[]; edits: { line: number; text: string }[] } | null;
   residentBytes: number | null;
   estimate?: StepEstimate;
+  /** Planning view only: the work of one step and the transfers once the suggested region is applied. */
+  step?: PlanningStep;
+}
+
+/** One nest's part of a step: its time per step and its share of each plan's step. */
+export interface PlanningNestShare {
+  /** The file of the nest (workspace-relative in the view); another file's when the step calls into it. */
+  path: string;
+  line: number;
+  /** Offloaded in the file as written (else host code left in the loop). */
+  offloaded: boolean;
+  /** False for a nest no directive parallelises (it runs on one host core). */
+  parallel: boolean;
+  /** Seconds per step of this nest on the device (a kernel) or on the host (code left in the loop), as written. */
+  secondsPerStep: number;
+  /** Share of the offloaded step as written, of the host-only step, and of the step with the suggested region (0..1). */
+  share: number;
+  hostShare: number;
+  shareWithRegion: number | null;
+}
+
+export interface PlanningStep {
+  /** Floating-point operations of one step: every nest the step runs, times its executions per step. */
+  flops: number;
+  /** Bytes across the link per step, as written and with the suggested region (null: no region suggested). */
+  linkBytes: number;
+  linkBytesWithRegion: number | null;
+  /** One step with the suggested region, split as the estimate's terms are (seconds; null: no region). */
+  withRegionSeconds: { kernels: number; launches: number; transfers: number; host: number } | null;
+  nests: PlanningNestShare[];
+  /**
+   * The transfers once the suggested region is applied, with lines of the user's file (a line the
+   * suggestion inserts is reported at the line it goes before, with `inserted` set). Null: no region.
+   */
+  transfersWithRegion: (ReportTransfer & { inserted?: boolean })[] | null;
+}
+
+/** The roofs of the roofline chart: the active profile's figures (server/src/core/machine/profiles.ts). */
+export interface PlanningMachine {
+  name: string;
+  baseline: 'node' | 'core';
+  /** The node's figures; one core has bandwidthCore and the node's peak divided by the cores. */
+  host: { name: string; cores: number; bandwidthNode: number; bandwidthCore: number; peakDouble: number; peakSingle: number };
+  device: { name: string; bandwidth: number; peakDouble: number; peakSingle: number };
+  link: { name: string; bandwidth: number };
+}
+
+/** A finding of the file as the JSON report gives it, with the bytes per step of the transfers it names. */
+export interface PlanningFinding {
+  code: string;
+  severity: 'error' | 'warning' | 'info' | 'hint';
+  line: number;
+  message: string;
+  array?: string;
+  bytesPerStep?: number;
 }
 
 export interface PlanningFile {
@@ -104,6 +165,9 @@ export interface PlanningFile {
   language: string;
   loops: ReportLoop[];
   timeLoops: ReportTimeLoop[];
+  /** Planning view only: the file's findings, and the machine its estimates assume. */
+  findings?: PlanningFinding[];
+  machine?: PlanningMachine;
 }
 
 export interface PlanningData {

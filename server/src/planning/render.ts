@@ -1,150 +1,303 @@
 /**
- * The planning view as one HTML page with hand-made SVG charts: per time loop, the bytes each
- * array moves across the link per step, and — when the core estimates times — one step on the
- * host against one step with offload split into its terms, with and without the suggested data
- * region. Pure (no VS Code import) so tests render it directly; the page runs no script and
- * loads nothing (its CSP allows inline styles only).
+ * The planning report as one HTML page: the editor's planning view and `check --format html`.
+ *
+ * The project summary comes first — the time loops ranked by their time per step with each plan's
+ * speedup and what bounds it, the roofline with every loop nest, the nests ranked by their share of
+ * the step, the findings ranked by severity and bytes per step, and the bytes per step of each time
+ * loop as written beside the same with the suggested data region — then the detail per file.
+ * Charts are Vega-Lite rendered to SVG by Vega when the page is made (charts.ts, vega.ts).
+ *
+ * The page runs no script and loads nothing (its CSP allows inline styles only). Sources are
+ * linked as `path:line` with workspace-relative paths: in the editor each link is a command URI
+ * that opens the line; in the HTML file it is the relative path, and chart points go to their row.
  */
-import type { PlanningData, PlanningFile, ReportLoop, ReportTimeLoop } from '../lsp/protocol';
+import type { PlanningData, PlanningFile, PlanningMachine, ReportLoop, ReportTimeLoop, ReportTransfer } from '../lsp/protocol';
+import { COLORS, PLANS, type LinkTarget, projectTransfersSpec, rooflineChart, timeLoopSpec } from './charts';
+import { bytes, esc, factor, intensity, percent, rate, seconds } from './format';
+import { type NestRow, type Summary, type TimeLoopRow, stepSeconds, summarise } from './summary';
+import { renderSvg } from './vega';
+
+export { bytes, seconds } from './format';
+
+export interface SourcePlace {
+  /** The path as the analysis has it (shown through displayPath). */
+  path: string;
+  /** The document's URI when the view knows it. */
+  uri?: string;
+  /** 1-based. */
+  line: number;
+}
 
 export interface RenderOptions {
   cspSource: string;
   focusUri?: string;
   focusLine?: number;
   message?: string;
+  /** How a path is shown: workspace-relative. Default: as given. */
+  displayPath?: (path: string) => string;
+  /** Where a `path:line` link goes. Default: the relative path of the file (the HTML file). The editor gives a command URI. */
+  sourceHref?: (place: SourcePlace) => string;
+  /** Chart points and bars open their source line (the editor); otherwise they go to their row in the page. */
+  chartsOpenSource?: boolean;
+  /** How many time loops, in rank order, get a detail chart; the others get tables. Default 12. */
+  detailCharts?: number;
+  /** Rows of each ranked summary table. Default 20. */
+  summaryRows?: number;
 }
 
-const esc = (s: string): string => s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
-
-const UNITS = ['B', 'KiB', 'MiB', 'GiB', 'TiB'];
-export function bytes(n: number | null): string {
-  if (n === null) return '—';
-  let v = n;
-  let u = 0;
-  while (Math.abs(v) >= 1024 && u < UNITS.length - 1) {
-    v /= 1024;
-    u++;
-  }
-  return `${u === 0 ? v : v.toFixed(1)} ${UNITS[u]}`;
+interface Ctx {
+  o: RenderOptions;
+  s: Summary;
+  show: (path: string) => string;
+  href: (place: SourcePlace) => string;
+  src: (place: SourcePlace) => string;
+  /** Where a chart mark goes. */
+  markHref: (t: LinkTarget) => string;
 }
 
-export function seconds(s: number | null | undefined): string {
-  if (s === null || s === undefined) return '—';
-  const a = Math.abs(s);
-  const [v, unit] = a >= 1 ? [s, 's'] : a >= 1e-3 ? [s * 1e3, 'ms'] : a >= 1e-6 ? [s * 1e6, 'µs'] : [s * 1e9, 'ns'];
-  return `${Number(v.toPrecision(3))} ${unit}`;
+const BOUND_WORDS: Record<string, string> = {
+  memory: 'device memory bandwidth',
+  compute: 'device compute',
+  transfer: 'transfers across the link',
+  launch: 'kernel launches',
+  host: 'host code left in the loop',
+};
+
+const bound = (b: string | null | undefined): string => (b ? BOUND_WORDS[b] ?? b : '—');
+
+function speedup(s: { low: number; expected: number; high: number } | null | undefined): string {
+  return s ? `${factor(s.low)}–${factor(s.high)}× (expected ${factor(s.expected)}×)` : '—';
 }
 
-const factor = (x: number): string => Number(x.toPrecision(2)).toString();
-
-interface Bar {
-  label: string;
-  segments: { value: number; color: string; title: string }[];
+function quantityText(q: { value: number | null; expr: string }, unitBytes = true): string {
+  if (q.value === null) return `${q.expr}${unitBytes ? ' B' : ''}`;
+  return unitBytes ? bytes(q.value) : q.value.toLocaleString('en-US');
 }
 
-/** A horizontal bar chart; each bar is a stack of segments. Values are drawn on a linear scale. */
-export function barChart(bars: Bar[], format: (v: number) => string, title: string): string {
-  if (bars.length === 0) return '';
-  const labelWidth = 140;
-  const width = 640;
-  const barHeight = 18;
-  const gap = 8;
-  const max = Math.max(...bars.map((b) => b.segments.reduce((a, s) => a + s.value, 0)), 1e-30);
-  const scale = (width - labelWidth - 90) / max;
-  const height = bars.length * (barHeight + gap) + gap;
-  const rows = bars.map((b, i) => {
-    const y = gap + i * (barHeight + gap);
-    let x = labelWidth;
-    const rects = b.segments.map((s) => {
-      const w = Math.max(s.value * scale, s.value > 0 ? 1 : 0);
-      const r = `<rect x="${x.toFixed(1)}" y="${y}" width="${w.toFixed(1)}" height="${barHeight}" fill="${s.color}"><title>${esc(s.title)}</title></rect>`;
-      x += w;
-      return r;
-    });
-    const total = b.segments.reduce((a, s) => a + s.value, 0);
-    return `<text x="${labelWidth - 6}" y="${y + 13}" text-anchor="end">${esc(b.label)}</text>${rects.join('')}<text x="${(x + 6).toFixed(1)}" y="${y + 13}">${esc(format(total))}</text>`;
+const table = (head: string[], rows: string[][], cls = ''): string =>
+  `<table${cls ? ` class="${cls}"` : ''}><thead><tr>${head.map((h) => `<th>${h}</th>`).join('')}</tr></thead><tbody>${rows.map((r) => `<tr>${r.join('')}</tr>`).join('')}</tbody></table>`;
+
+const td = (s: string, cls = ''): string => `<td${cls ? ` class="${cls}"` : ''}>${s}</td>`;
+
+function placeOfFile(f: PlanningFile, line: number): SourcePlace {
+  return { path: f.path, uri: f.uri, line };
+}
+
+/** The file a transfer's directive is in: another file's when the step calls into it. */
+function transferPlace(f: PlanningFile, x: ReportTransfer): SourcePlace {
+  return x.file && x.file !== f.path ? { path: x.file, line: x.line } : placeOfFile(f, x.line);
+}
+
+function machineText(m: PlanningMachine): string {
+  const ridge = (peak: number, bw: number): string => `ridge ${intensity(peak / bw)} flop/B`;
+  const core = { bw: m.host.bandwidthCore, peak: m.host.peakDouble / m.host.cores };
+  const items = [
+    `device <code>${esc(m.device.name)}</code>: ${rate(m.device.bandwidth, 'B/s')}, ${rate(m.device.peakDouble, 'Flop/s')} double (${rate(m.device.peakSingle, 'Flop/s')} single), ${ridge(m.device.peakDouble, m.device.bandwidth)}`,
+    `host <code>${esc(m.host.name)}</code>, whole node: ${rate(m.host.bandwidthNode, 'B/s')}, ${rate(m.host.peakDouble, 'Flop/s')} double, ${ridge(m.host.peakDouble, m.host.bandwidthNode)}; one core: ${rate(core.bw, 'B/s')}, ${rate(core.peak, 'Flop/s')} double, ${ridge(core.peak, core.bw)}`,
+    `link <code>${esc(m.link.name)}</code>: ${rate(m.link.bandwidth, 'B/s')} per direction, ${ridge(m.device.peakDouble, m.link.bandwidth)} crossing the link against the device's double peak`,
+  ];
+  return `<ul class="machine">${items.map((i) => `<li>${i}</li>`).join('')}</ul>`;
+}
+
+function timeLoopsTable(ctx: Ctx, rows: TimeLoopRow[]): string {
+  const head = ['', 'time loop', 'steps', 'host only', 'as written', 'speedup as written', 'bound by', 'with the suggested region', 'speedup with region', 'bound by', 'link bytes per step'];
+  const body = rows.map((r) => {
+    const e = r.t.estimate;
+    const s = r.t.step;
+    const link = `${bytes(s?.linkBytes ?? (r.t.perStep.toDevice.value ?? 0) + (r.t.perStep.toHost.value ?? 0))}${s && s.linkBytesWithRegion !== null ? ` → ${bytes(s.linkBytesWithRegion)}` : ''}`;
+    return [
+      td(`<a href="#${r.label}">${r.label}</a>`, 'label'),
+      td(`${ctx.src(placeOfFile(r.file, r.t.line))} <small>${esc(r.t.variable || 'while')} in ${esc(r.t.function)}</small>`),
+      td(esc(quantityText(r.t.steps, false))),
+      td(seconds(e?.hostSeconds)),
+      td(seconds(e?.deviceSeconds)),
+      td(speedup(e?.speedup)),
+      td(esc(bound(e?.bound))),
+      td(seconds(e?.withRegion?.deviceSeconds)),
+      td(speedup(e?.withRegion?.speedup)),
+      td(e?.withRegion ? esc(bound(e.withRegion.bound)) : '—'),
+      td(link),
+    ];
   });
-  return `<svg role="img" aria-label="${esc(title)}" width="100%" style="max-width:${width}px" viewBox="0 0 ${width} ${height}" xmlns="http://www.w3.org/2000/svg"><title>${esc(title)}</title>${rows.join('')}</svg>`;
+  return table(head, body, 'ranked');
 }
 
-const COLORS = { toDevice: '#3b82c4', toHost: '#d9822b', kernels: '#3b82c4', launches: '#8e6cc8', transfers: '#d9822b', host: '#c2413b', hostOnly: '#6b7280' };
-
-function transferChart(t: ReportTimeLoop): string {
-  const perArray = new Map<string, { toDevice: number; toHost: number }>();
-  for (const x of t.transfers) {
-    if (x.bytes.value === null) continue;
-    const e = perArray.get(x.array) ?? { toDevice: 0, toHost: 0 };
-    e[x.direction] += x.bytes.value / x.everySteps;
-    perArray.set(x.array, e);
-  }
-  const bars: Bar[] = [...perArray].map(([array, e]) => ({
-    label: array,
-    segments: [
-      { value: e.toDevice, color: COLORS.toDevice, title: `${array}: ${bytes(e.toDevice)} to the device per step` },
-      { value: e.toHost, color: COLORS.toHost, title: `${array}: ${bytes(e.toHost)} to the host per step` },
-    ],
-  }));
-  return barChart(bars, (v) => `${bytes(v)}/step`, 'bytes across the link per step, by array');
+function nestCells(ctx: Ctx, n: NestRow): string[] {
+  const l = n.loop;
+  const sh = n.share;
+  const tl = n.timeLoop ? `<a href="#${n.timeLoop.label}">${n.timeLoop.label}</a>` : '—';
+  return [
+    td(`<a href="#${n.label}">${n.label}</a>`, 'label'),
+    td(`${ctx.src(placeOfFile(n.file, l.line))} <small>${esc(l.variables.join(','))} in ${esc(l.function)}</small>`),
+    td(l.offloaded ? esc(l.directive ?? 'yes') : sh ? 'no (host code in the loop)' : 'no'),
+    td(esc(intensity(l.arithmeticIntensity.device))),
+    td(esc(intensity(l.arithmeticIntensity.host))),
+    td(sh ? percent(sh.share) : '—'),
+    td(sh ? percent(sh.hostShare) : '—'),
+    td(sh && sh.shareWithRegion !== null ? percent(sh.shareWithRegion) : '—'),
+    td(sh ? seconds(sh.secondsPerStep) : '—'),
+    td(tl),
+  ];
 }
 
-function timeChart(t: ReportTimeLoop): string {
+const NEST_HEAD = ['', 'loop nest', 'offloaded', 'AI device', 'AI host', 'share of the step', 'of the host-only step', 'with the region', 'time per step', 'time loop'];
+
+function findingsTable(ctx: Ctx, limit: number): string {
+  const rows = ctx.s.findings.slice(0, limit).map(({ file, f }) => [
+    td(`<span class="sev ${f.severity}">${f.severity}</span>`),
+    td(`<code>${esc(f.code)}</code>`),
+    td(ctx.src(placeOfFile(file, f.line))),
+    td(f.bytesPerStep !== undefined ? `${bytes(f.bytesPerStep)}` : '—'),
+    td(esc(f.message).replace(/`([^`]+)`/g, '<code>$1</code>'), 'message'),
+  ]);
+  return table(['severity', 'code', 'where', 'bytes per step', 'what'], rows, 'ranked findings');
+}
+
+const more = (shown: number, total: number, what: string): string => (total > shown ? `<p class="note">${total - shown} more ${what} in the detail per file below.</p>` : '');
+
+async function summarySection(ctx: Ctx, data: PlanningData): Promise<string> {
+  const { s, o } = ctx;
+  const limit = o.summaryRows ?? 20;
+  const counts = { error: 0, warning: 0, info: 0, hint: 0 };
+  for (const f of s.findings) counts[f.f.severity]++;
+  const parts: string[] = [];
+  parts.push(
+    `<p>${data.files.length} file${data.files.length === 1 ? '' : 's'}, ${s.timeLoops.length} time loop${s.timeLoops.length === 1 ? '' : 's'}, ${s.nests.length} loop nest${s.nests.length === 1 ? '' : 's'}, ${s.findings.length} finding${s.findings.length === 1 ? '' : 's'} (${counts.error} error, ${counts.warning} warning, ${counts.info} info, ${counts.hint} hint).</p>`,
+  );
+  parts.push('<h3 id="plans">Time loops by time per step, and what each plan gains</h3>');
+  if (s.timeLoops.length > 0) {
+    parts.push('<p class="note">Time per step as written is the offloaded step the code runs today (kernels, launches, transfers, host code left in the loop); speedups are against one step on the host baseline, as ranges over documented efficiency bounds.</p>');
+    parts.push(timeLoopsTable(ctx, s.timeLoops.slice(0, limit)) + more(limit, s.timeLoops.length, 'time loops'));
+  } else parts.push('<p>No time loop found.</p>');
+
+  parts.push('<h3 id="roofline">Roofline</h3>');
+  if (s.machine) {
+    parts.push(machineText(s.machine));
+    const chart = rooflineChart(s.machine, s.nests, s.timeLoops, ctx.markHref);
+    parts.push(`<figure>${await renderSvg(chart.spec, 'roofline: loop nests by arithmetic intensity under the roofs of the device, the host and the link')}</figure>`);
+    parts.push(
+      `<p class="note">Each loop nest is two points, its device and its host intensity, on the roof it is estimated against (attainable = min(peak, bandwidth × intensity)), sized by its share of the step. Square and triangle points are time loops: their flops per step over the bytes that cross the link per step, as written and with the suggested data region (labels with ′).${chart.offChart.length > 0 ? ` Beyond the right edge, with so few bytes crossing the link that their intensity runs off the axis: ${chart.offChart.map((p) => `${p.label} at ${intensity(p.intensity)} flop per byte`).join(', ')}.` : ''}${chart.unplaced.length > 0 ? ` Not on the chart, since a log axis has no place for intensity 0: ${chart.unplaced.map((n) => `<a href="#${n.label}">${n.label}</a>`).join(', ')} (no floating-point work).` : ''}</p>`,
+    );
+  } else parts.push('<p>No machine profile in the data.</p>');
+
+  parts.push('<h3 id="loops">Loop nests by share of the step</h3>');
+  parts.push(s.nests.length > 0 ? table(NEST_HEAD, s.nests.slice(0, limit).map((n) => nestCells(ctx, n)), 'ranked') + more(limit, s.nests.length, 'loop nests') : '<p>No loop nest found.</p>');
+
+  parts.push('<h3 id="findings">Findings by severity and bytes per step</h3>');
+  parts.push(s.findings.length > 0 ? findingsTable(ctx, limit) + (s.findings.length > limit ? `<p class="note">${s.findings.length - limit} more findings: the editor lists them all as diagnostics, and <code>offload-ledger check</code> prints them.</p>` : '') : '<p>No findings.</p>');
+
+  parts.push('<h3 id="before-after">Before and after: bytes across the link per step</h3>');
+  const moving = s.timeLoops.filter((r) => r.t.transfers.length > 0).slice(0, limit);
+  const spec = projectTransfersSpec(moving, (r) => ctx.markHref({ timeLoop: r }));
+  parts.push(spec ? `<figure>${await renderSvg(spec, 'bytes across the link per step by time loop, as written and with the suggested data region')}</figure>` : '<p>No bytes cross the link inside any time loop.</p>');
+  return parts.join('\n');
+}
+
+function kv(rows: [string, string][]): string {
+  return `<table class="kv">${rows.map(([k, v]) => `<tr><th>${esc(k)}</th><td>${v}</td></tr>`).join('')}</table>`;
+}
+
+/** Before/after tables by array and by construct: the figures of the chart, for every time loop. */
+function transferTables(ctx: Ctx, f: PlanningFile, t: ReportTimeLoop): string {
+  const after = t.step?.transfersWithRegion ?? null;
+  const sum = (list: ReportTransfer[] | null, key: (x: ReportTransfer) => string): Map<string, { toDevice: number; toHost: number; first: ReportTransfer }> => {
+    const m = new Map<string, { toDevice: number; toHost: number; first: ReportTransfer }>();
+    for (const x of list ?? []) {
+      if (x.bytes.value === null) continue;
+      const e = m.get(key(x)) ?? { toDevice: 0, toHost: 0, first: x };
+      e[x.direction] += x.bytes.value / x.everySteps;
+      m.set(key(x), e);
+    }
+    return m;
+  };
+  const cell = (e: { toDevice: number; toHost: number } | undefined, list: unknown): string => (list === null ? '—' : `${bytes(e?.toDevice ?? 0)} · ${bytes(e?.toHost ?? 0)}`);
+  const group = (key: (x: ReportTransfer) => string, label: (k: string, x: ReportTransfer) => string, title: string): string => {
+    const b = sum(t.transfers, key);
+    const a = sum(after, key);
+    const keys = [...new Set([...b.keys(), ...a.keys()])].sort((x, y) => (b.get(y)?.toDevice ?? 0) + (b.get(y)?.toHost ?? 0) - (b.get(x)?.toDevice ?? 0) - (b.get(x)?.toHost ?? 0) || x.localeCompare(y));
+    const rows = keys.map((k) => [td(label(k, (b.get(k) ?? a.get(k))!.first)), td(cell(b.get(k), t.transfers)), td(cell(a.get(k), after))]);
+    return table([title, `${PLANS.written} (to the device · to the host)`, PLANS.region], rows, 'transfers');
+  };
+  const constructKey = (x: ReportTransfer & { inserted?: boolean }): string => `${x.file ?? ''}\n${x.line}\n${x.inserted ? 1 : 0}`;
+  return [
+    group((x) => x.array, (k) => `<code>${esc(k)}</code>`, 'array'),
+    group(constructKey, (_k, x) => `${ctx.src(transferPlace(f, x))}${(x as { inserted?: boolean }).inserted ? ' <small>(a suggested update, before this line)</small>' : ''}`, 'construct'),
+  ].join('');
+}
+
+async function timeLoopSection(ctx: Ctx, f: PlanningFile, r: TimeLoopRow, focused: boolean, chart: boolean): Promise<string> {
+  const t = r.t;
   const e = t.estimate;
-  if (!e) return '';
-  const bars: Bar[] = [{ label: 'host only', segments: [{ value: e.hostSeconds ?? 0, color: COLORS.hostOnly, title: `one step on the host: ${seconds(e.hostSeconds)}` }] }];
-  bars.push({
-    label: 'with offload',
-    segments: [
-      { value: e.kernelSeconds ?? 0, color: COLORS.kernels, title: `kernels ${seconds(e.kernelSeconds)}` },
-      { value: e.launchSeconds ?? 0, color: COLORS.launches, title: `launches ${seconds(e.launchSeconds)}` },
-      { value: e.transferSeconds ?? 0, color: COLORS.transfers, title: `transfers ${seconds(e.transferSeconds)}` },
-      { value: e.hostLeftSeconds ?? 0, color: COLORS.host, title: `host code left in the loop ${seconds(e.hostLeftSeconds)}` },
-    ],
-  });
-  if (e.withRegion?.deviceSeconds != null) {
-    bars.push({ label: 'with data region', segments: [{ value: e.withRegion.deviceSeconds, color: COLORS.kernels, title: `with the suggested data region: ${seconds(e.withRegion.deviceSeconds)}` }] });
-  }
-  return barChart(bars, seconds, 'one time step: host only against offload');
-}
-
-function legend(items: [string, string][]): string {
-  return `<p class="legend">${items.map(([c, t]) => `<span><i style="background:${c}"></i>${esc(t)}</span>`).join('')}</p>`;
-}
-
-function timeLoopSection(f: PlanningFile, t: ReportTimeLoop, focused: boolean): string {
-  const e = t.estimate;
-  const speed = e?.speedup ? `${factor(e.speedup.low)}–${factor(e.speedup.high)}× (expected ${factor(e.speedup.expected)}×), bound by ${e.bound ?? '—'}` : 'not estimated';
   const rows: [string, string][] = [
-    ['steps', t.steps.value !== null ? t.steps.value.toLocaleString('en-US') : t.steps.expr],
-    ['to the device per step', t.perStep.toDevice.value !== null ? bytes(t.perStep.toDevice.value) : `${t.perStep.toDevice.expr} B`],
-    ['to the host per step', t.perStep.toHost.value !== null ? bytes(t.perStep.toHost.value) : `${t.perStep.toHost.expr} B`],
+    ['steps', esc(quantityText(t.steps, false))],
+    ['to the device per step', esc(quantityText(t.perStep.toDevice))],
+    ['to the host per step', esc(quantityText(t.perStep.toHost))],
     ['once', `${bytes(t.once.toDevice.value)} in · ${bytes(t.once.toHost.value)} out`],
     ['resident on the device', bytes(t.residentBytes)],
-    ['speedup', speed],
+    ['time per step', e ? `host only ${seconds(e.hostSeconds)} · as written ${seconds(e.deviceSeconds)}${e.withRegion ? ` · with the suggested region ${seconds(e.withRegion.deviceSeconds)}` : ''}` : 'not estimated'],
+    ['speedup as written', e?.speedup ? `${speedup(e.speedup)}, bound by ${esc(bound(e.bound))}` : 'not estimated'],
   ];
-  if (e?.withRegion?.speedup) rows.push(['with the suggested data region', `${factor(e.withRegion.speedup.low)}–${factor(e.withRegion.speedup.high)}×`]);
+  if (e?.withRegion?.speedup) rows.push(['with the suggested data region', `${speedup(e.withRegion.speedup)}, bound by ${esc(bound(e.withRegion.bound))}`]);
   if (e?.runsPerDevice != null) rows.push(['independent runs per device', String(e.runsPerDevice)]);
-  const region = t.dataRegion ? `<p>Suggested data region: <code>${esc(t.dataRegion.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' '))}</code></p>` : '';
-  return `<section class="${focused ? 'focus' : ''}" id="L${t.line}">
-<h3>Time loop at line ${t.line} <small>(${esc(t.variable || 'while')} in ${esc(t.function)}, ${esc(f.path)})</small></h3>
-<table>${rows.map(([k, v]) => `<tr><th>${esc(k)}</th><td>${esc(v)}</td></tr>`).join('')}</table>
+  const region = t.dataRegion
+    ? `<p>Suggested data region: <code>${esc(t.dataRegion.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' '))}</code>${t.dataRegion.edits.length > 0 ? ` (${t.dataRegion.edits.length} line${t.dataRegion.edits.length === 1 ? '' : 's'} to insert; the quick fix on the finding applies them)` : ''}</p>`
+    : '';
+  let figure = '';
+  if (chart) {
+    const byArray = (x: ReportTransfer) => ({ key: x.array, href: ctx.markHref({ timeLoop: r }) });
+    const byConstruct = (x: ReportTransfer & { inserted?: boolean }) => {
+      const p = transferPlace(f, x);
+      // Short names on the chart (the tables below give the full path): a line of this file, or another file's name and line.
+      const name = p.path === f.path ? `line ${p.line}` : `${ctx.show(p.path).split('/').pop()}:${p.line}`;
+      return { key: `${name}${x.inserted ? ' (suggested update)' : ''}`, href: ctx.o.chartsOpenSource ? ctx.href(p) : `#${r.label}` };
+    };
+    const w = t.step?.withRegionSeconds ?? null;
+    const spec = timeLoopSpec(t, byArray, byConstruct, {
+      hostOnly: e?.hostSeconds ?? null,
+      written: e && e.kernelSeconds !== null ? { kernels: e.kernelSeconds, launches: e.launchSeconds ?? 0, transfers: e.transferSeconds ?? 0, host: e.hostLeftSeconds ?? 0 } : null,
+      region: w,
+    });
+    if (spec) figure = `<figure>${await renderSvg(spec, `time loop ${r.label}: bytes per step by array and by construct, as written and with the suggested region, and one step's time`)}</figure>`;
+  }
+  const tables = t.transfers.length > 0 || (t.step?.transfersWithRegion?.length ?? 0) > 0
+    ? `<details${chart ? '' : ' open'}><summary>bytes per step by array and by construct, as written and with the suggested region</summary>${transferTables(ctx, f, t)}</details>`
+    : '<p>No bytes cross the link inside this loop.</p>';
+  return `<section class="timeloop${focused ? ' focus' : ''}" id="${r.label}">
+<h4><span class="label">${r.label}</span> time loop at ${ctx.src(placeOfFile(f, t.line))} <small>(${esc(t.variable || 'while')} in ${esc(t.function)})</small></h4>
+${kv(rows)}
 ${region}
-${t.transfers.length > 0 ? `<h4>Bytes across the link per step</h4>${legend([[COLORS.toDevice, 'to the device'], [COLORS.toHost, 'to the host']])}${transferChart(t)}` : '<p>No bytes cross the link inside this loop.</p>'}
-${e ? `<h4>One step</h4>${legend([[COLORS.hostOnly, 'host only'], [COLORS.kernels, 'kernels'], [COLORS.launches, 'launches'], [COLORS.transfers, 'transfers'], [COLORS.host, 'host code in the loop']])}${timeChart(t)}` : ''}
+${figure}
+${tables}
 </section>`;
 }
 
-function loopsTable(loops: ReportLoop[]): string {
-  if (loops.length === 0) return '';
-  const head = '<tr><th>line</th><th>function</th><th>loop</th><th>offloaded</th><th>iterations</th><th>flop/it</th><th>B/it device</th><th>AI device</th><th>speedup</th></tr>';
-  const rows = loops.map((l) => {
-    const s = l.estimate?.speedup ? `${factor(l.estimate.speedup.low)}–${factor(l.estimate.speedup.high)}×` : '—';
-    const it = l.iterations.value !== null ? l.iterations.value.toLocaleString('en-US') : l.iterations.expr;
-    return `<tr><td>${l.line}</td><td>${esc(l.function)}</td><td>${esc(l.variables.join(', '))}</td><td>${l.offloaded ? esc(l.directive ?? 'yes') : 'no'}</td><td>${esc(it)}</td><td>${l.flopsPerIteration}</td><td>${l.bytesPerIteration.device}</td><td>${l.arithmeticIntensity.device?.toFixed(2) ?? '—'}</td><td>${s}</td></tr>`;
-  });
-  return `<table class="loops">${head}${rows.join('')}</table>`;
+async function fileSection(ctx: Ctx, f: PlanningFile, index: number, budget: { charts: number }): Promise<string> {
+  const { s, o } = ctx;
+  const loops = f.timeLoops.map((t) => s.timeLoopOf(f, t)!).filter((r) => !!r).sort((a, b) => a.rank - b.rank);
+  const sections: string[] = [];
+  for (const r of loops) {
+    const focused = f.uri === o.focusUri && o.focusLine !== undefined && r.t.line === o.focusLine + 1;
+    const chart = r.rank <= budget.charts;
+    sections.push(await timeLoopSection(ctx, f, r, focused, chart));
+  }
+  const nests = f.loops.map((l) => s.nestAt(f.path, l.line)).filter((n): n is NestRow => !!n);
+  const nestTable = nests.length > 0
+    ? table(NEST_HEAD, nests.map((n) => nestCells(ctx, n))).replace(/<tr><td class="label"><a href="#(N\d+)">/g, '<tr id="$1"><td class="label"><a href="#$1">')
+    : '<p>No loop nest found in this file.</p>';
+  return `<section class="file" id="F${index + 1}">
+<h3>${esc(ctx.show(f.path))} <small>${esc(f.language)}</small></h3>
+${sections.join('\n') || '<p>No time loop found in this file.</p>'}
+<h4>Loop nests</h4>
+${nestTable}
+</section>`;
 }
 
-export function renderPlanning(data: PlanningData | undefined, o: RenderOptions): string {
+function defaultHref(show: (p: string) => string): (p: SourcePlace) => string {
+  // The HTML file: the file's relative path (editors and browsers open it; the text beside it is path:line).
+  return (p) => encodeURI(show(p.path)).replace(/#/g, '%23').replace(/\?/g, '%3F');
+}
+
+export async function renderPlanning(data: PlanningData | undefined, o: RenderOptions): Promise<string> {
   const csp = `default-src 'none'; img-src ${o.cspSource} data:; style-src ${o.cspSource} 'unsafe-inline';`;
   let body: string;
   if (!data || o.message) {
@@ -152,13 +305,33 @@ export function renderPlanning(data: PlanningData | undefined, o: RenderOptions)
   } else if (data.files.length === 0) {
     body = '<p>No analysed C, C++ or Fortran document yet: open one, or run <em>Offload Ledger: Check Workspace</em>.</p>';
   } else {
-    const files = [...data.files].sort((a, b) => Number(b.uri === o.focusUri) - Number(a.uri === o.focusUri));
-    body = files
-      .map((f) => {
-        const loops = f.timeLoops.map((t) => timeLoopSection(f, t, f.uri === o.focusUri && o.focusLine !== undefined && t.line === o.focusLine + 1)).join('\n');
-        return `<h2>${esc(f.path)}</h2>${loops || '<p>No time loop found in this file.</p>'}<h3>Loop nests</h3>${loopsTable(f.loops)}`;
-      })
-      .join('\n');
+    const show = o.displayPath ?? ((p: string) => p);
+    const href = o.sourceHref ?? defaultHref(show);
+    const s = summarise(data);
+    const ctx: Ctx = {
+      o,
+      s,
+      show,
+      href,
+      src: (p) => `<a class="src" href="${esc(href(p))}">${esc(show(p.path))}:${p.line}</a>`,
+      markHref: (t) => {
+        if (!o.chartsOpenSource) return `#${'nest' in t ? t.nest.label : t.timeLoop.label}`;
+        return 'nest' in t ? href(placeOfFile(t.nest.file, t.nest.loop.line)) : href(placeOfFile(t.timeLoop.file, t.timeLoop.t.line));
+      },
+    };
+    const best = new Map<PlanningFile, number>();
+    for (const r of s.timeLoops) if (!best.has(r.file)) best.set(r.file, r.rank);
+    const files = [...data.files].sort((a, b) => Number(b.uri === o.focusUri) - Number(a.uri === o.focusUri) || (best.get(a) ?? Infinity) - (best.get(b) ?? Infinity) || a.path.localeCompare(b.path));
+    const budget = { charts: o.detailCharts ?? 12 };
+    const fileParts: string[] = [];
+    for (const [k, f] of files.entries()) fileParts.push(await fileSection(ctx, f, k, budget));
+    const charted = Math.min(budget.charts, s.timeLoops.length);
+    body = `<nav><a href="#summary">Summary</a> · <a href="#plans">Time loops</a> · <a href="#roofline">Roofline</a> · <a href="#loops">Loop nests</a> · <a href="#findings">Findings</a> · <a href="#before-after">Before/after</a> · <a href="#files">Files</a></nav>
+<h2 id="summary">Project summary</h2>
+${await summarySection(ctx, data)}
+<h2 id="files">Per file</h2>
+${s.timeLoops.length > charted ? `<p class="note">Detail charts for the ${charted} time loops with the most time per step; the others show their figures in tables.</p>` : ''}
+${fileParts.join('\n')}`;
   }
   const note = data && !data.estimatesAvailable ? '<p class="note">Times and speedups appear once the analysis core estimates them; the bytes below are exact for the bound sizes.</p>' : '';
   return `<!DOCTYPE html>
@@ -166,16 +339,21 @@ export function renderPlanning(data: PlanningData | undefined, o: RenderOptions)
 <meta http-equiv="Content-Security-Policy" content="${csp}">
 <title>Offload Ledger: Planning</title>
 <style>
-body { font-family: var(--vscode-font-family, sans-serif); color: var(--vscode-foreground, #222); padding: 0 1em; }
-table { border-collapse: collapse; margin: .5em 0; } th, td { text-align: left; padding: 2px 10px 2px 0; }
-table.loops td, table.loops th { border-bottom: 1px solid var(--vscode-panel-border, #ddd); }
-section { border-left: 3px solid transparent; padding-left: .8em; margin: 1em 0; } section.focus { border-left-color: var(--vscode-focusBorder, #3b82c4); }
-svg text { font-size: 12px; fill: var(--vscode-foreground, #222); }
-.legend span { margin-right: 1em; } .legend i { display: inline-block; width: .8em; height: .8em; margin-right: .3em; }
+body { font-family: var(--vscode-font-family, sans-serif); color: var(--vscode-foreground, #222); background: var(--vscode-editor-background, #fff); padding: 0 1em; }
+a { color: var(--vscode-textLink-foreground, #2962a8); }
+table { border-collapse: collapse; margin: .5em 0; } th, td { text-align: left; padding: 2px 10px 2px 0; vertical-align: top; }
+table.ranked td, table.ranked th, table.transfers td, table.transfers th, section.file table td, section.file table th { border-bottom: 1px solid var(--vscode-panel-border, #ddd); }
+td.message { max-width: 60em; font-size: 90%; } td.label, .label { font-weight: bold; }
+section.timeloop { border-left: 3px solid transparent; padding-left: .8em; margin: 1em 0; } section.focus { border-left-color: var(--vscode-focusBorder, ${COLORS.device}); }
+section.file { margin-top: 2em; } tr:target, section:target { background: var(--vscode-editor-findMatchHighlightBackground, #fff3c4); }
+svg.marks { max-width: 100%; height: auto; } svg text { fill: var(--vscode-foreground, #222); }
+figure { margin: .5em 0; }
+.sev.error { color: var(--vscode-errorForeground, #c2413b); } .sev.warning { color: var(--vscode-editorWarning-foreground, #b7791f); }
 .note { opacity: .8; font-style: italic; } small { opacity: .7; font-weight: normal; }
+ul.machine { margin: .3em 0; }
 </style></head>
 <body><h1>Offload Ledger: planning</h1>
-${data ? `<p>Machine profile <code>${esc(data.profile)}</code>, baseline ${esc(data.baseline || 'node')}.</p>` : ''}${note}
+${data ? `<p>Machine profile <code>${esc(data.profile)}</code>, baseline ${esc(data.baseline || 'node')}. Every figure is an estimate from a named model (docs/cost-model.md); measure on the target machine to decide.</p>` : ''}${note}
 ${body}
 </body></html>`;
 }

@@ -1,0 +1,60 @@
+/**
+ * Charts of the planning report: Vega-Lite specifications compiled by vega-lite and rendered to
+ * SVG by Vega's headless view in Node (no canvas, no DOM), when the report is made. The modules
+ * are imported on first use, so the extension's activation does not evaluate them.
+ *
+ * Nothing is loaded: the view gets a loader whose fetches fail and whose link check passes only
+ * the links this report writes (a `command:` URI of the editor, an in-page `#anchor`, a relative
+ * file path). Every spec carries its data inline.
+ */
+import type { TopLevelSpec } from 'vega-lite';
+
+type Vega = typeof import('vega');
+type VegaLite = typeof import('vega-lite');
+
+let libraries: Promise<{ vega: Vega; vl: VegaLite }> | undefined;
+
+function load(): Promise<{ vega: Vega; vl: VegaLite }> {
+  libraries ??= Promise.all([import('vega'), import('vega-lite')]).then(([vega, vl]) => ({ vega, vl }));
+  return libraries;
+}
+
+/** A link the report may write: command URIs, in-page anchors and relative paths; never a scheme that fetches. */
+export function safeHref(href: string): boolean {
+  if (/^(command:|#)/.test(href)) return true;
+  // A relative path: no scheme (a colon before the first slash) and not protocol-relative.
+  return !/^[a-z][a-z0-9+.-]*:/i.test(href) && !href.startsWith('//');
+}
+
+/** Colours and fonts that read on light and dark editor themes (the page's CSS sets the text colour). */
+const CONFIG = {
+  background: 'transparent',
+  font: 'sans-serif',
+  axis: { domainColor: '#888', tickColor: '#888', gridColor: '#8884', labelFontSize: 11, titleFontSize: 12, titleFontWeight: 'normal' },
+  legend: { labelFontSize: 11, titleFontSize: 11, titleFontWeight: 'normal' },
+  header: { labelFontSize: 12, titleFontSize: 12 },
+  view: { stroke: '#8886' },
+} as const;
+
+export async function renderSvg(spec: TopLevelSpec, title: string): Promise<string> {
+  const { vega, vl } = await load();
+  const loader = vega.loader();
+  const refuse = async (): Promise<never> => {
+    throw new Error('the planning report loads nothing');
+  };
+  Object.assign(loader, {
+    load: refuse,
+    http: refuse,
+    file: refuse,
+    sanitize: async (uri: string) => ({ href: safeHref(uri) ? uri : '#' }),
+  });
+  const compiled = vl.compile({ ...spec, config: { ...CONFIG, ...(spec.config ?? {}) } } as TopLevelSpec).spec;
+  const view = new vega.View(vega.parse(compiled), { renderer: 'none', loader });
+  try {
+    const svg = await view.toSVG();
+    // The chart's accessible name, and a class the page's CSS sizes and themes it by.
+    return svg.replace(/^<svg /, `<svg role="img" aria-label="${title.replace(/&/g, '&amp;').replace(/"/g, '&quot;')}" `);
+  } finally {
+    view.finalize();
+  }
+}
