@@ -184,19 +184,21 @@ export class DataInterpreter {
   }
 
   /**
-   * Runs the program from `root` until it calls `target`, and returns the data environment at
-   * that call in the target's own names: what its parameters and the globals are mapped to, the
-   * values its scalar parameters are given, and the enter/exit transfers made on the way. Time
-   * loops on the way run as ordinary loops. Undefined when the call is never reached.
+   * Runs the program from `root` once, time loops as ordinary loops, and returns the data
+   * environment at the first call of each of `targets`, in the callee's own names: what its
+   * parameters and the globals are mapped to, the values its scalar parameters are given, and the
+   * enter/exit transfers made on the way. One run serves every target reached from one root, so
+   * a `main` that calls many procedures is run once, not once per procedure.
    */
-  entryAt(root: Procedure, target: Procedure): EntryState | undefined {
-    this.stopAt = target;
+  entriesFrom(root: Procedure, targets: ReadonlySet<Procedure>): Map<Procedure, EntryState> {
+    this.captureAt = targets;
     this.runProcedure(root);
-    return this.captured;
+    return this.captures;
   }
 
-  private stopAt?: Procedure;
-  private captured?: EntryState;
+  private captureAt?: ReadonlySet<Procedure>;
+  private readonly outsideByAllocation = new Map<number, TransferRecord[]>();
+  private readonly captures = new Map<Procedure, EntryState>();
 
   /**
    * Declarations at file scope make global data present for the whole program: OpenACC
@@ -337,7 +339,6 @@ export class DataInterpreter {
 
   private exec(stmts: Stmt[], ctx: Ctx): void {
     for (const s of stmts) {
-      if (this.captured) return;
       const here: Ctx = ctx.frame.depth === 0 && ctx.run && !ctx.anchorFixed ? { ...ctx, anchor: s } : ctx;
       this.stmt(s, here);
     }
@@ -559,10 +560,7 @@ export class DataInterpreter {
       else bindings.set(p.name, value);
     });
     const frame: Frame = { proc: callee, rename, bindings, via: [...ctx.frame.via, at], depth: ctx.frame.depth + 1 };
-    if (callee === this.stopAt && !this.captured) {
-      this.captured = this.capture(frame);
-      return;
-    }
+    if (this.captureAt?.has(callee) && !this.captures.has(callee)) this.captures.set(callee, this.capture(frame));
     this.exec(callee.body, { ...ctx, frame });
   }
 
@@ -590,7 +588,9 @@ export class DataInterpreter {
       const v = frame.bindings.get(p.name);
       if (v !== undefined && S.evaluate(v, frame.bindings) !== undefined) bindings.set(p.name, S.num(S.evaluate(v, frame.bindings)!));
     }
-    const outside = this.outside.map((t) => ({ ...t, array: byKey.get(t.array) ?? t.array }));
+    // Only the transfers of the allocations that carry into the callee (its "once" traffic): an
+    // index by allocation keeps this proportional to them, not to everything run so far.
+    const outside = [...states.values()].flatMap((st) => (this.outsideByAllocation.get(st.allocation) ?? []).map((t) => ({ ...t, array: byKey.get(t.array) ?? t.array })));
     return { states, bindings, outside };
   }
 
@@ -842,6 +842,9 @@ export class DataInterpreter {
       if (ctx.recording) ctx.run.transfers.push(rec);
     } else {
       this.outside.push(rec);
+      const list = this.outsideByAllocation.get(allocation);
+      if (list) list.push(rec);
+      else this.outsideByAllocation.set(allocation, [rec]);
     }
   }
 
@@ -878,7 +881,7 @@ export class DataInterpreter {
   }
 }
 
-/** The data environment at the call that enters a time loop's procedure (see `entryAt`). */
+/** The data environment at the call that enters a time loop's procedure (see `entriesFrom`). */
 export interface EntryState {
   states: Map<string, ArrayState>;
   bindings: Map<string, S.Expr>;

@@ -13,7 +13,7 @@ import { quantity } from '../analysis/bindings';
 import type { DirectiveFamily, Finding, Fix, Range, TextEdit } from '../types';
 import { isOffloadCompute } from '../model/directives';
 import { walkStatements } from '../model/values';
-import { DataInterpreter, type TimeLoopRun, type TransferRecord } from './interpreter';
+import { DataInterpreter, type EntryState, type TimeLoopRun, type TransferRecord } from './interpreter';
 import { type Region, intersect, regionSize, subtract } from './regions';
 import { regionSectionText } from './slices';
 import { type DataRegionSuggestion, suggestDataRegion, updateDirective, updateLines } from './suggest';
@@ -69,13 +69,22 @@ export function dataLedger(
   const ledgers: TimeLoopLedger[] = [];
   const family = directiveFamily(model);
   const procs = new Map(model.procedures.map((p) => [p.name, p]));
-  for (const proc of new Set(outer.map((t) => t.procedure))) {
-    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides, procs);
-    // The program before the call into this procedure (an allocation routine's enter data, a
-    // set-up routine's update) is the time loop's starting state; run it first, time loops off.
+  const withLoops = [...new Set(outer.map((t) => t.procedure))];
+  // The program before the call into a procedure (an allocation routine's enter data, a set-up
+  // routine's update) is its time loop's starting state: each root is run once, time loops off,
+  // and gives the entry state of every such procedure it reaches.
+  const byRoot = new Map<Procedure, Set<Procedure>>();
+  for (const proc of withLoops) {
     const root = entryRootOf(model, proc);
-    const entry = root ? new DataInterpreter(model, new Set(), bindingsOf, nestStrides, procs).entryAt(root, proc) : undefined;
-    interp.runProcedure(proc, entry);
+    if (root) byRoot.set(root, (byRoot.get(root) ?? new Set()).add(proc));
+  }
+  const entries = new Map<Procedure, EntryState>();
+  for (const [root, targets] of byRoot) {
+    for (const [p, e] of new DataInterpreter(model, new Set(), bindingsOf, nestStrides, procs).entriesFrom(root, targets)) entries.set(p, e);
+  }
+  for (const proc of withLoops) {
+    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides, procs);
+    interp.runProcedure(proc, entries.get(proc));
     attachCoherenceFixes(interp, model, text, family);
     findings.push(...interp.findings);
     const bindings = bindingsOf(proc);

@@ -12,7 +12,7 @@
  * `end` directive after it in Fortran, and `update` lines around the host statements.
  */
 import type { Procedure, ProgramModel, Stmt } from '../model/program';
-import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
+import { accessesOfStatement, childStatements } from '../model/values';
 import { calleesOf } from '../model/callees';
 import { isOffloadCompute } from '../model/directives';
 import type { DirectiveFamily, SourceLanguage } from '../types';
@@ -234,67 +234,84 @@ function precededByStatementBoundary(text: string, offset: number): boolean {
   }
 }
 
-/** Whether host code of any procedure other than `except` reads the global `name` (outside offloaded constructs). */
-function readOnHostElsewhere(model: ProgramModel, name: string, except: Procedure): boolean {
+/**
+ * Host reads per model, found once: which procedures read each name on the host (outside
+ * offloaded constructs), and where each procedure is called from. Asked per array and per time
+ * loop, so scanning every procedure each time made large files quadratic.
+ */
+interface HostReadIndex {
+  readers: Map<string, Set<Procedure>>;
+  calls: Map<Procedure, { caller: Procedure; stmts: Stmt[]; at: number; inLoop: boolean }[]>;
+}
+
+const indexes = new WeakMap<ProgramModel, HostReadIndex>();
+
+function hostReadIndex(model: ProgramModel): HostReadIndex {
+  let index = indexes.get(model);
+  if (index) return index;
+  index = { readers: new Map(), calls: new Map() };
+  const callees = calleesOf(model);
   for (const p of model.procedures) {
-    if (p === except || p.locals.some((l) => l.name === name) || p.params.some((l) => l.name === name)) continue;
-    if (hostReads(p.body, name)) return true;
+    const stmts: Stmt[] = [];
+    const inLoop = new Set<Stmt>();
+    const visit = (list: Stmt[], loop: boolean): void => {
+      for (const s of list) {
+        stmts.push(s);
+        if (loop) inLoop.add(s);
+        if (s.directives.some(isOffloadCompute)) continue;
+        for (const name of hostReadNames(s)) {
+          let set = index!.readers.get(name);
+          if (!set) index!.readers.set(name, (set = new Set()));
+          set.add(p);
+        }
+        visit(childStatements(s), loop || s.kind === 'loop');
+      }
+    };
+    visit(p.body, false);
+    stmts.forEach((s, at) => {
+      if (s.kind !== 'call') return;
+      const callee = callees.resolve(s.name);
+      if (!callee || callee === p) return;
+      const list = index!.calls.get(callee) ?? [];
+      list.push({ caller: p, stmts, at, inLoop: inLoop.has(s) });
+      index!.calls.set(callee, list);
+    });
+  }
+  indexes.set(model, index);
+  return index;
+}
+
+/** Names a statement reads on the host by itself (its own values; arrays passed to calls count). */
+function hostReadNames(s: Stmt): string[] {
+  const out = accessesOfStatement(s).filter((a) => a.isRead).map((a) => a.array);
+  if (s.kind === 'call') for (const a of s.args) if (a.kind === 'var') out.push(a.name);
+  return out;
+}
+
+/** Whether host code of any procedure other than `except` reads the global `name`. */
+function readOnHostElsewhere(model: ProgramModel, name: string, except: Procedure): boolean {
+  for (const p of hostReadIndex(model).readers.get(name) ?? []) {
+    if (p !== except && !p.locals.some((l) => l.name === name) && !p.params.some((l) => l.name === name)) return true;
   }
   return false;
 }
 
 /**
  * Whether a caller of `proc` reads, on the host and after the call, the array it passes for the
- * parameter `param` (statements after the call in the caller's body, in source order). A caller
- * that cannot be read this way (an argument that is not a plain name) counts as reading it.
+ * parameter `param` (later statements of the caller in source order, or any when a loop runs the
+ * call again). An argument that is not a plain name counts as read; with no caller in view (the
+ * program entry, another file) the data is assumed to be needed.
  */
 function readByCallerAfterCall(model: ProgramModel, proc: Procedure, param: string): boolean {
   const k = proc.params.findIndex((p) => p.name === param);
-  if (k < 0) return true;
-  const callees = calleesOf(model);
-  let called = false;
-  for (const caller of model.procedures) {
-    if (caller === proc) continue;
-    const stmts: Stmt[] = [];
-    walkStatements(caller.body, (s) => { stmts.push(s); });
-    for (let i = 0; i < stmts.length; i++) {
-      const s = stmts[i];
-      if (s.kind !== 'call' || callees.resolve(s.name) !== proc) continue;
-      called = true;
-      const arg = s.args[k];
-      if (!arg || arg.kind !== 'var') return true;
-      // Everything after the call in the caller's statement order (loops around the call make
-      // earlier statements run after it too: then any read in the caller counts).
-      const rest = hasLoopAround(caller.body, s) ? stmts : stmts.slice(i + 1);
-      if (rest.some((x) => x !== s && hostReads([x], arg.name, false))) return true;
-    }
+  const calls = hostReadIndex(model).calls.get(proc) ?? [];
+  if (k < 0 || calls.length === 0) return true;
+  for (const c of calls) {
+    const call = c.stmts[c.at];
+    const arg = call.kind === 'call' ? call.args[k] : undefined;
+    if (!arg || arg.kind !== 'var') return true;
+    const rest = c.inLoop ? c.stmts : c.stmts.slice(c.at + 1);
+    if (rest.some((x) => x !== call && !x.directives.some(isOffloadCompute) && hostReadNames(x).includes(arg.name))) return true;
   }
-  // Nothing calls it here (another file, or the program entry): assume the data is needed.
-  return !called;
-}
-
-function hasLoopAround(body: Stmt[], target: Stmt): boolean {
-  let found = false;
-  const visit = (stmts: Stmt[], inLoop: boolean): void => {
-    for (const s of stmts) {
-      if (s === target) found ||= inLoop;
-      visit(childStatements(s), inLoop || s.kind === 'loop');
-    }
-  };
-  visit(body, false);
-  return found;
-}
-
-/** Host reads of `name` in statements (offloaded constructs excluded; `deep` descends into children). */
-function hostReads(stmts: Stmt[], name: string, deep = true): boolean {
-  let found = false;
-  const visit = (s: Stmt): boolean | void => {
-    if (s.directives.some(isOffloadCompute)) return false;
-    if (accessesOfStatement(s).some((a) => a.array === name && a.isRead)) found = true;
-    if (s.kind === 'call' && s.args.some((a) => a.kind === 'var' && a.name === name)) found = true;
-    if (!deep) return false;
-  };
-  if (deep) walkStatements(stmts, visit);
-  else for (const s of stmts) visit(s);
-  return found;
+  return false;
 }
