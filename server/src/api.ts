@@ -12,3 +12,6 @@ import { resolveProfiles, type MachinesFile } from './core/machine/resolve';
 export function profileFromMachines(file: MachinesFile, name: string) {
   return resolveProfiles(file).profiles.get(name);
 }
+// The planning report (benchmarks render it for generated projects).
+export { buildPlanning, hasEstimates } from './lsp/view/planning';
+export { renderPlanning } from './planning/render';

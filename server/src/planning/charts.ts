@@ -237,6 +237,12 @@ export function rooflineChart(m: PlanningMachine, nests: NestRow[], timeLoops: T
   return { spec: spec as unknown as TopLevelSpec, roofs: rs, points, unplaced, offChart };
 }
 
+/** A chart: its Vega-Lite specification, with the data of each named source beside it. */
+export interface Chart {
+  spec: TopLevelSpec | Record<string, unknown>;
+  datasets: Record<string, unknown[]>;
+}
+
 interface BarRow {
   plan: string;
   key: string;
@@ -249,15 +255,15 @@ interface BarRow {
 const DIRECTIONS = { toDevice: 'to the device', toHost: 'to the host' } as const;
 
 /** A faceted bar chart: one column per plan, one bar per key, stacked by direction, its total written at its end. */
-function beforeAfterFacet(title: string, rows: BarRow[], plans: string[], unit: { name: string; size: number }): Record<string, unknown> {
+function beforeAfterFacet(title: string, name: string, rows: BarRow[], plans: string[], unit: { name: string; size: number }): Chart {
   const totals = new Map<string, number>();
   for (const r of rows) totals.set(`${r.plan}\n${r.key}`, (totals.get(`${r.plan}\n${r.key}`) ?? 0) + r.value);
   // Each bar says what it is, exactly (bytes per step, unrounded), for readers of the SVG and screen readers.
   const values = rows.map((r) => ({ ...r, value: r.value / unit.size, total: bytes(totals.get(`${r.plan}\n${r.key}`) ?? 0), desc: `${r.key}, ${r.plan}, ${r.direction}: ${r.value} B per step` }));
   const y = { field: 'key', type: 'nominal', title: null, sort: { field: 'order', op: 'min' }, axis: { labelLimit: 260 } };
-  return {
+  const spec = {
     title: { text: title, anchor: 'start', fontSize: 12, fontWeight: 'normal' },
-    data: { values },
+    data: { name },
     facet: { column: { field: 'plan', type: 'nominal', title: null, sort: plans, header: { labelFontSize: 12 } } },
     spec: {
       width: 240,
@@ -282,6 +288,7 @@ function beforeAfterFacet(title: string, rows: BarRow[], plans: string[], unit: 
       ],
     },
   };
+  return { spec, datasets: { [name]: values } };
 }
 
 export interface TransferGroupKey {
@@ -340,7 +347,7 @@ function timeUnit(max: number): { name: string; size: number } {
   return max >= 1 ? { name: 's', size: 1 } : max >= 1e-3 ? { name: 'ms', size: 1e-3 } : max >= 1e-6 ? { name: 'µs', size: 1e-6 } : { name: 'ns', size: 1e-9 };
 }
 
-function stepTimeSpec(times: StepTimes): Record<string, unknown> | null {
+function stepTimeSpec(times: StepTimes): Chart | null {
   const rows: { plan: string; term: string; value: number; order: number }[] = [];
   if (times.hostOnly !== null) rows.push({ plan: 'host only', term: TERMS.hostOnly, value: times.hostOnly, order: 0 });
   const split = (plan: string, s: StepTimes['written']): void => {
@@ -355,9 +362,9 @@ function stepTimeSpec(times: StepTimes): Record<string, unknown> | null {
   const unit = timeUnit(Math.max(...totals.values()));
   const values = rows.map((r) => ({ ...r, value: r.value / unit.size, total: seconds(totals.get(r.plan) ?? 0), desc: `${r.plan}, ${r.term}: ${r.value} s per step` }));
   const y = { field: 'plan', type: 'nominal', title: null, sort: ['host only', PLANS.written, PLANS.region], axis: { labelLimit: 260 } };
-  return {
+  const spec = {
     title: { text: 'one time step, host only and with offload', anchor: 'start', fontSize: 12, fontWeight: 'normal' },
-    data: { values },
+    data: { name: 'times' },
     width: 480,
     height: { step: 18 },
     layer: [
@@ -383,27 +390,32 @@ function stepTimeSpec(times: StepTimes): Record<string, unknown> | null {
       },
     ],
   };
+  return { spec, datasets: { times: values } };
 }
 
 /** One time loop's before/after: bytes per step by array and by construct, and one step's time. */
-export function timeLoopSpec(t: ReportTimeLoop, byArray: (x: ReportTransfer) => TransferGroupKey, byConstruct: (x: ReportTransfer & { inserted?: boolean }) => TransferGroupKey, times: StepTimes): TopLevelSpec | null {
+export function timeLoopSpec(t: ReportTimeLoop, byArray: (x: ReportTransfer) => TransferGroupKey, byConstruct: (x: ReportTransfer & { inserted?: boolean }) => TransferGroupKey, times: StepTimes): Chart | null {
   const arrays = transferRows(t, byArray);
   const constructs = transferRows(t, byConstruct);
   const unit = byteUnit(Math.max(maxBytes(arrays), maxBytes(constructs)));
   const plans = t.step?.transfersWithRegion ? [PLANS.written, PLANS.region] : [PLANS.written];
-  const parts: Record<string, unknown>[] = [];
+  const parts: Chart[] = [];
   if (arrays.length > 0) {
-    parts.push(beforeAfterFacet('bytes across the link per step, by array', arrays, plans, unit));
-    parts.push(beforeAfterFacet('by construct (the directive that moves them)', constructs, plans, unit));
+    parts.push(beforeAfterFacet('bytes across the link per step, by array', 'arrays', arrays, plans, unit));
+    parts.push(beforeAfterFacet('by construct (the directive that moves them)', 'constructs', constructs, plans, unit));
   }
   const time = stepTimeSpec(times);
   if (time) parts.push(time);
   if (parts.length === 0) return null;
-  return { vconcat: parts, spacing: 18, resolve: { scale: { color: 'independent' } } } as unknown as TopLevelSpec;
+  // The data goes in by name, so charts of the same shape share one compiled specification (vega.ts).
+  return {
+    spec: { vconcat: parts.map((p) => p.spec), spacing: 18, resolve: { scale: { color: 'independent' } } } as unknown as TopLevelSpec,
+    datasets: Object.assign({}, ...parts.map((p) => p.datasets)),
+  };
 }
 
 /** The project's time loops, bytes across the link per step as written and with the suggested region. */
-export function projectTransfersSpec(rows: TimeLoopRow[], href: (r: TimeLoopRow) => string): TopLevelSpec | null {
+export function projectTransfersSpec(rows: TimeLoopRow[], href: (r: TimeLoopRow) => string): Chart | null {
   const raw: BarRow[] = [];
   rows.forEach((r, order) => {
     const lists: [string, ReportTransfer[] | null][] = [[PLANS.written, r.t.transfers], [PLANS.region, r.t.step?.transfersWithRegion ?? null]];
@@ -415,6 +427,6 @@ export function projectTransfersSpec(rows: TimeLoopRow[], href: (r: TimeLoopRow)
     }
   });
   if (raw.every((x) => x.value === 0)) return null;
-  const spec = beforeAfterFacet('bytes across the link per step, by time loop', raw, [PLANS.written, PLANS.region], byteUnit(maxBytes(raw)));
-  return spec as unknown as TopLevelSpec;
+  const chart = beforeAfterFacet('bytes across the link per step, by time loop', 'loops', raw, [PLANS.written, PLANS.region], byteUnit(maxBytes(raw)));
+  return { spec: chart.spec as unknown as TopLevelSpec, datasets: chart.datasets };
 }

@@ -188,8 +188,8 @@ async function summarySection(ctx: Ctx, data: PlanningData): Promise<string> {
 
   parts.push('<h3 id="before-after">Before and after: bytes across the link per step</h3>');
   const moving = s.timeLoops.filter((r) => r.t.transfers.length > 0).slice(0, limit);
-  const spec = projectTransfersSpec(moving, (r) => ctx.markHref({ timeLoop: r }));
-  parts.push(spec ? `<figure>${await renderSvg(spec, 'bytes across the link per step by time loop, as written and with the suggested data region')}</figure>` : '<p>No bytes cross the link inside any time loop.</p>');
+  const chart = projectTransfersSpec(moving, (r) => ctx.markHref({ timeLoop: r }));
+  parts.push(chart ? `<figure>${await renderSvg(chart.spec, 'bytes across the link per step by time loop, as written and with the suggested data region', chart.datasets)}</figure>` : '<p>No bytes cross the link inside any time loop.</p>');
   return parts.join('\n');
 }
 
@@ -252,12 +252,12 @@ async function timeLoopSection(ctx: Ctx, f: PlanningFile, r: TimeLoopRow, focuse
       return { key: `${name}${x.inserted ? ' (suggested update)' : ''}`, href: ctx.o.chartsOpenSource ? ctx.href(p) : `#${r.label}` };
     };
     const w = t.step?.withRegionSeconds ?? null;
-    const spec = timeLoopSpec(t, byArray, byConstruct, {
+    const chart = timeLoopSpec(t, byArray, byConstruct, {
       hostOnly: e?.hostSeconds ?? null,
       written: e && e.kernelSeconds !== null ? { kernels: e.kernelSeconds, launches: e.launchSeconds ?? 0, transfers: e.transferSeconds ?? 0, host: e.hostLeftSeconds ?? 0 } : null,
       region: w,
     });
-    if (spec) figure = `<figure>${await renderSvg(spec, `time loop ${r.label}: bytes per step by array and by construct, as written and with the suggested region, and one step's time`)}</figure>`;
+    if (chart) figure = `<figure>${await renderSvg(chart.spec, `time loop ${r.label}: bytes per step by array and by construct, as written and with the suggested region, and one step's time`, chart.datasets)}</figure>`;
   }
   const tables = t.transfers.length > 0 || (t.step?.transfersWithRegion?.length ?? 0) > 0
     ? `<details${chart ? '' : ' open'}><summary>bytes per step by array and by construct, as written and with the suggested region</summary>${transferTables(ctx, f, t)}</details>`

@@ -36,7 +36,17 @@ const CONFIG = {
   view: { stroke: '#8886' },
 } as const;
 
-export async function renderSvg(spec: TopLevelSpec, title: string): Promise<string> {
+/**
+ * Compiled and parsed specifications by their text (data excluded): a report draws many charts of
+ * the same shape (one per time loop), and compiling is most of a small chart's cost.
+ */
+const parsedSpecs = new Map<string, unknown>();
+
+/**
+ * Renders a chart to SVG. Data given in `datasets` (by the names the spec's `data: { name }` use)
+ * is inserted into the view, so a spec without inline values is compiled once per shape.
+ */
+export async function renderSvg(spec: TopLevelSpec | Record<string, unknown>, title: string, datasets: Record<string, unknown[]> = {}): Promise<string> {
   const { vega, vl } = await load();
   const loader = vega.loader();
   const refuse = async (): Promise<never> => {
@@ -48,8 +58,16 @@ export async function renderSvg(spec: TopLevelSpec, title: string): Promise<stri
     file: refuse,
     sanitize: async (uri: string) => ({ href: safeHref(uri) ? uri : '#' }),
   });
-  const compiled = vl.compile({ ...spec, config: { ...CONFIG, ...(spec.config ?? {}) } } as TopLevelSpec).spec;
-  const view = new vega.View(vega.parse(compiled), { renderer: 'none', loader });
+  const key = JSON.stringify(spec);
+  let runtime = parsedSpecs.get(key) as ReturnType<Vega['parse']> | undefined;
+  if (!runtime) {
+    const full = { ...spec, config: { ...CONFIG, ...((spec as { config?: object }).config ?? {}) } } as TopLevelSpec;
+    runtime = vega.parse(vl.compile(full).spec);
+    if (parsedSpecs.size >= 64) parsedSpecs.clear();
+    parsedSpecs.set(key, runtime);
+  }
+  const view = new vega.View(runtime, { renderer: 'none', loader });
+  for (const [name, values] of Object.entries(datasets)) view.data(name, values);
   try {
     const svg = await view.toSVG();
     // The chart's accessible name, and a class the page's CSS sizes and themes it by.
