@@ -241,6 +241,14 @@ describe('planning report of the demo (check --format html examples)', () => {
     expect(bars.some((b) => /\(suggested update\)$/.test(b.key) && b.plan === 'with the suggested region' && b.bytes > 0)).toBe(true);
   });
 
+  it('keeps ids unique on the page, so each chart clips by its own paths (HTML: an id names one element)', () => {
+    const ids = [...html.matchAll(/\sid="([^"]+)"/g)].map((m) => m[1]);
+    expect(new Set(ids).size).toBe(ids.length);
+    const refs = [...html.matchAll(/url\(#([^)]+)\)/g)].map((m) => m[1]);
+    expect(refs.length).toBeGreaterThan(0);
+    for (const r of refs) expect(ids).toContain(r);
+  });
+
   it('loads nothing: no script, no http(s) address in any src or href, a CSP that forbids fetching', () => {
     expect(html).toContain("default-src 'none'");
     expect(html).not.toMatch(/<script|<link|<img|<iframe|@import|url\((?!#)/i);

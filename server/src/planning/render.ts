@@ -174,7 +174,7 @@ async function summarySection(ctx: Ctx, data: PlanningData): Promise<string> {
   if (s.machine) {
     parts.push(machineText(s.machine));
     const chart = rooflineChart(s.machine, s.nests, s.timeLoops, ctx.markHref);
-    parts.push(`<figure>${await renderSvg(chart.spec, 'roofline: loop nests by arithmetic intensity under the roofs of the device, the host and the link')}</figure>`);
+    parts.push(`<figure>${await renderSvg(chart.spec, 'roofline: loop nests by arithmetic intensity under the roofs of the device, the host and the link', {}, 'roofline')}</figure>`);
     parts.push(
       `<p class="note">Each loop nest is two points, its device and its host intensity, on the roof it is estimated against (attainable = min(peak, bandwidth × intensity)), sized by its share of the step. Square and triangle points are time loops: their flops per step over the bytes that cross the link per step, as written and with the suggested data region (labels with ′).${chart.offChart.length > 0 ? ` Beyond the right edge, with so few bytes crossing the link that their intensity runs off the axis: ${chart.offChart.map((p) => `${p.label} at ${intensity(p.intensity)} flop per byte`).join(', ')}.` : ''}${chart.unplaced.length > 0 ? ` Not on the chart, since a log axis has no place for intensity 0: ${chart.unplaced.map((n) => `<a href="#${n.label}">${n.label}</a>`).join(', ')} (no floating-point work).` : ''}</p>`,
     );
@@ -189,7 +189,7 @@ async function summarySection(ctx: Ctx, data: PlanningData): Promise<string> {
   parts.push('<h3 id="before-after">Before and after: bytes across the link per step</h3>');
   const moving = s.timeLoops.filter((r) => r.t.transfers.length > 0).slice(0, limit);
   const chart = projectTransfersSpec(moving, (r) => ctx.markHref({ timeLoop: r }));
-  parts.push(chart ? `<figure>${await renderSvg(chart.spec, 'bytes across the link per step by time loop, as written and with the suggested data region', chart.datasets)}</figure>` : '<p>No bytes cross the link inside any time loop.</p>');
+  parts.push(chart ? `<figure>${await renderSvg(chart.spec, 'bytes across the link per step by time loop, as written and with the suggested data region', chart.datasets, 'loops')}</figure>` : '<p>No bytes cross the link inside any time loop.</p>');
   return parts.join('\n');
 }
 
@@ -257,7 +257,7 @@ async function timeLoopSection(ctx: Ctx, f: PlanningFile, r: TimeLoopRow, focuse
       written: e && e.kernelSeconds !== null ? { kernels: e.kernelSeconds, launches: e.launchSeconds ?? 0, transfers: e.transferSeconds ?? 0, host: e.hostLeftSeconds ?? 0 } : null,
       region: w,
     });
-    if (chart) figure = `<figure>${await renderSvg(chart.spec, `time loop ${r.label}: bytes per step by array and by construct, as written and with the suggested region, and one step's time`, chart.datasets)}</figure>`;
+    if (chart) figure = `<figure>${await renderSvg(chart.spec, `time loop ${r.label}: bytes per step by array and by construct, as written and with the suggested region, and one step's time`, chart.datasets, r.label)}</figure>`;
   }
   const tables = t.transfers.length > 0 || (t.step?.transfersWithRegion?.length ?? 0) > 0
     ? `<details${chart ? '' : ' open'}><summary>bytes per step by array and by construct, as written and with the suggested region</summary>${transferTables(ctx, f, t)}</details>`

@@ -46,7 +46,7 @@ const parsedSpecs = new Map<string, unknown>();
  * Renders a chart to SVG. Data given in `datasets` (by the names the spec's `data: { name }` use)
  * is inserted into the view, so a spec without inline values is compiled once per shape.
  */
-export async function renderSvg(spec: TopLevelSpec | Record<string, unknown>, title: string, datasets: Record<string, unknown[]> = {}): Promise<string> {
+export async function renderSvg(spec: TopLevelSpec | Record<string, unknown>, title: string, datasets: Record<string, unknown[]> = {}, id = 'chart'): Promise<string> {
   const { vega, vl } = await load();
   const loader = vega.loader();
   const refuse = async (): Promise<never> => {
@@ -69,10 +69,23 @@ export async function renderSvg(spec: TopLevelSpec | Record<string, unknown>, ti
   const view = new vega.View(runtime, { renderer: 'none', loader });
   for (const [name, values] of Object.entries(datasets)) view.data(name, values);
   try {
-    const svg = await view.toSVG();
-    // The chart's accessible name, and a class the page's CSS sizes and themes it by.
+    const svg = uniqueIds(await view.toSVG(), id);
+    // The chart's accessible name.
     return svg.replace(/^<svg /, `<svg role="img" aria-label="${title.replace(/&/g, '&amp;').replace(/"/g, '&quot;')}" `);
   } finally {
     view.finalize();
   }
+}
+
+/**
+ * Every chart numbers its clip paths from 1 (`id="clip1"`), and one page holds many charts: ids
+ * are prefixed with the chart's own, so each `url(#…)` finds its own chart's element.
+ */
+export function uniqueIds(svg: string, prefix: string): string {
+  const ids = new Set([...svg.matchAll(/\sid="([^"]+)"/g)].map((m) => m[1]));
+  if (ids.size === 0) return svg;
+  const p = prefix.replace(/[^\w-]/g, '_');
+  return svg
+    .replace(/(\sid=")([^"]+)"/g, (m, a: string, x: string) => (ids.has(x) ? `${a}${p}-${x}"` : m))
+    .replace(/url\(#([^)]+)\)/g, (m, x: string) => (ids.has(x) ? `url(#${p}-${x})` : m));
 }
