@@ -20,6 +20,7 @@ const PROGRAMS: { file: string; cc: string; flag: string }[] = [
   { file: 'device_ptr_acc.c', cc: 'gcc', flag: '-fopenacc' },
   { file: 'device_ptr_omp.c', cc: 'gcc', flag: '-fopenmp' },
   { file: 'alloc_routine.f90', cc: 'gfortran', flag: '-fopenacc' },
+  { file: 'pointer_swap.f90', cc: 'gfortran', flag: '-fopenacc' },
   { file: 'swap_structs.cpp', cc: 'g++', flag: '-fopenmp' },
   { file: 'swap_structs_fixed.cpp', cc: 'g++', flag: '-fopenmp' },
 ];

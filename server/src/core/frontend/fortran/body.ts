@@ -13,7 +13,7 @@ import type { Cursor, Entry } from './cursor';
 import { concurrentHeader, doHeader, normalLabel } from './loops';
 import { closes, directiveRole, sentinel } from './regions';
 import { rangeIn, subLocated } from './source';
-import { allocation, assignment, callStatement, ioStatement, lineRange, other, tokText, value } from './statements';
+import { allocation, assignment, callStatement, ioStatement, lineRange, other, pointerAssignment, tokText, value } from './statements';
 import { closeOf, isId, isOp, splitTop } from './tokens';
 import { whereConstruct, whereOne } from './where';
 
@@ -192,9 +192,10 @@ export class BodyBuilder {
         return [allocation(line, this.ctx, line.kind === 'allocate')];
       case 'io':
         return [ioStatement(line, this.ctx)];
+      case 'pointer-assign':
+        return [pointerAssignment(line, this.ctx)];
       case 'simple':
       case 'other':
-      case 'pointer-assign':
         return [other(line)];
       default:
         // An end statement without its construct (`end do` after a loop that was already closed).

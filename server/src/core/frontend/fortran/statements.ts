@@ -31,6 +31,20 @@ export function other(line: Line, values: VExpr[] = []): Stmt {
 
 export const value = (line: Line, ctx: UnitContext, a: number, b: number): VExpr => parseValue(line.text, line.toks, ctx.env, a, b);
 
+/**
+ * `p => q` (a pointer assignment): the pointer names the target's storage from here on, which the
+ * data ledger follows (the standards map by address). Modelled as an assignment of the name.
+ */
+export function pointerAssignment(line: Line, ctx: UnitContext): Stmt {
+  const { toks } = line;
+  const at = findTop(toks, line.head, toks.length, '=>');
+  if (at < 0) return other(line);
+  const target = new ExprParser(line.text, toks, ctx.env, line.head, at).parse();
+  const rhs = value(line, ctx, at + 1, toks.length);
+  if (target.kind !== 'var') return other(line, [rhs]);
+  return { kind: 'assign', target: { kind: 'var', name: target.name }, op: '=', value: rhs, range: lineRange(line), directives: [] };
+}
+
 export function assignment(line: Line, ctx: UnitContext): Stmt {
   const { toks } = line;
   const eq = findTop(toks, line.head, toks.length, '=');
