@@ -50,9 +50,30 @@ export interface TemplateBinding {
 export class TemplateUses {
   private readonly uses = new Map<string, string[][]>();
 
+  /** Declared type spelling of each name in the file (first declaration wins; scopes are not kept). */
+  private readonly declared = new Map<string, string>();
+  /** Plain calls by function name: each call's argument nodes. */
+  private readonly calls = new Map<string, Node[][]>();
+
   constructor(root: Node) {
-    for (const n of root.descendantsOfType(['template_type', 'template_function'])) {
+    for (const n of root.descendantsOfType(['template_type', 'template_function', 'declaration', 'parameter_declaration', 'call_expression'])) {
       if (!n) continue;
+      if (n.type === 'declaration' || n.type === 'parameter_declaration') {
+        const type = field(n, 'type')?.text;
+        for (const d of n.childrenForFieldName('declarator')) {
+          const name = d ? declaredName(d) : undefined;
+          if (type && name && !this.declared.has(name)) this.declared.set(name, type);
+        }
+        continue;
+      }
+      if (n.type === 'call_expression') {
+        const fn = field(n, 'function');
+        if (fn?.type !== 'identifier' && fn?.type !== 'qualified_identifier') continue;
+        const list = this.calls.get(lastName(fn.text)) ?? [];
+        list.push(namedChildren(field(n, 'arguments') ?? n));
+        this.calls.set(lastName(fn.text), list);
+        continue;
+      }
       const name = lastName(field(n, 'name')?.text ?? '');
       const args = field(n, 'arguments');
       if (!name || !args) continue;
@@ -61,6 +82,34 @@ export class TemplateUses {
       all.push(list);
       this.uses.set(name, all);
     }
+  }
+
+  /**
+   * The types a function template's parameter `t` takes at its plain calls (`axpy(n, a, x, y)`
+   * with `float *x` declared in the file): deduced from the arguments whose parameter is spelled
+   * `T`, `T *`, `const T *` or `T &` (C++ template argument deduction in its simplest form).
+   */
+  deduced(decl: Node, owner: string, t: string): string[] {
+    const fn = namedChildren(decl).find((c) => c.type === 'function_definition' || c.type === 'declaration');
+    let d = fn ? field(fn, 'declarator') : undefined;
+    while (d && d.type !== 'function_declarator') d = field(d, 'declarator') ?? namedChildren(d)[0];
+    const params = d ? namedChildren(field(d, 'parameters') ?? d).filter((p) => p.type === 'parameter_declaration') : [];
+    const positions = params.flatMap((p, k) => (field(p, 'type')?.text.replace(/\bconst\b/g, '').trim() === t ? [k] : []));
+    const out: string[] = [];
+    for (const args of this.calls.get(owner) ?? []) {
+      for (const k of positions) {
+        const a = args[k];
+        if (!a) continue;
+        if (a.type === 'number_literal') {
+          if (/[.eE]/.test(a.text) && !/^0[xX]/.test(a.text)) out.push(/[fF]$/.test(a.text) ? 'float' : 'double');
+          continue;
+        }
+        const base = a.type === 'identifier' ? a.text : undefined;
+        const spelled = base ? this.declared.get(base) : undefined;
+        if (spelled) out.push(spelled.replace(/\bconst\b/g, '').trim());
+      }
+    }
+    return out;
   }
 
   /** Binds the type parameters of a `template_declaration` node. */
@@ -76,7 +125,9 @@ export class TemplateUses {
       const name = namedChildren(p).find((c) => c.type === 'type_identifier')?.text;
       if (!name) return;
       const fallback = p.type === 'optional_type_parameter_declaration' ? field(p, 'default_type')?.text : undefined;
-      const concrete = [...new Set(uses.map((u) => u[k]).filter((a): a is string => !!a && aliases.typeOf(a).name !== 'unknown'))];
+      const written = uses.map((u) => u[k]);
+      const fromCalls = owner && written.length === 0 ? this.deduced(decl, owner, name) : [];
+      const concrete = [...new Set([...written, ...fromCalls].filter((a): a is string => !!a && aliases.typeOf(a).name !== 'unknown'))];
       if (concrete.length === 1) {
         types.set(name, concrete[0]);
         return;
@@ -94,6 +145,13 @@ export class TemplateUses {
     });
     return { types, notes };
   }
+}
+
+/** The name a declarator declares (`x`, `*x`, `x[4]`, `x = 1`). */
+function declaredName(d: Node): string | undefined {
+  let cur: Node | undefined = d;
+  while (cur && cur.type !== 'identifier') cur = field(cur, 'declarator') ?? undefined;
+  return cur?.text;
 }
 
 function score(t: ElementType): number {
