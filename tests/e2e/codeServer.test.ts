@@ -51,5 +51,10 @@ describe.skipIf(!!reason)('the .vsix in code-server, driven through the VS Code 
     // What the browser showed: the hover card with its numbers, and the screenshot on disk.
     expect(result.hoverText).toMatch(/Loop nest at line 121[\s\S]*iterations[\s\S]*46,259,136/);
     expect(existsSync(shot)).toBe(true);
+    // The planning view's link to the time loop of hall_naive_acc.c opened its line (116, README.md demo summary).
+    expect(result.planningLink).toMatch(/^Ln 116, Col 1/);
+    // A roofline point opens its nest's line through the one command the webview allows.
+    expect(result.planningPoint.href).toMatch(/^command:offloadLedger\.openSource\?\["file:\/\/.*\.c",\d+\]$/);
+    expect(result.planningPoint.status).toMatch(new RegExp(`^Ln ${result.planningPoint.line}, Col 1`));
   }, 420_000);
 });

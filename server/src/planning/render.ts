@@ -343,7 +343,7 @@ body { font-family: var(--vscode-font-family, sans-serif); color: var(--vscode-f
 a { color: var(--vscode-textLink-foreground, #2962a8); }
 table { border-collapse: collapse; margin: .5em 0; } th, td { text-align: left; padding: 2px 10px 2px 0; vertical-align: top; }
 table.ranked td, table.ranked th, table.transfers td, table.transfers th, section.file table td, section.file table th { border-bottom: 1px solid var(--vscode-panel-border, #ddd); }
-td.message { max-width: 60em; font-size: 90%; } td.label, .label { font-weight: bold; }
+table.ranked td, table.transfers td { white-space: nowrap; } td.message { white-space: normal; min-width: 30em; max-width: 60em; font-size: 90%; } td.label, .label { font-weight: bold; }
 section.timeloop { border-left: 3px solid transparent; padding-left: .8em; margin: 1em 0; } section.focus { border-left-color: var(--vscode-focusBorder, ${COLORS.device}); }
 section.file { margin-top: 2em; } tr:target, section:target { background: var(--vscode-editor-findMatchHighlightBackground, #fff3c4); }
 svg.marks { max-width: 100%; height: auto; } svg text { fill: var(--vscode-foreground, #222); }

@@ -120,6 +120,22 @@ try {
   await page.waitForTimeout(1000);
   await page.screenshot({ path: planningShot });
   result.planningScreenshot = planningShot;
+  // The view's source links: the time loop's path:line is a command link (the page runs no
+  // script); following it opens that line in an editor, which the status bar's cursor shows.
+  const webview = page.frameLocator('iframe.webview.ready').frameLocator('iframe#active-frame');
+  await webview.locator('a.src', { hasText: 'hall_naive_acc.c:116' }).first().click();
+  await page.locator('.tabs-container .tab.active', { hasText: 'hall_naive_acc.c' }).first().waitFor({ timeout: 20000 });
+  await waitUntil('the cursor at the linked line', async () => /Ln 116,/.test(await page.locator('.statusbar-item', { hasText: /Ln \d+, Col \d+/ }).first().innerText().catch(() => '')), 20000);
+  result.planningLink = await page.locator('.statusbar-item', { hasText: /Ln \d+, Col \d+/ }).first().innerText();
+  // A roofline point is an SVG link with the same kind of command: it opens its nest's line.
+  // The largest point comes last in Vega's drawing order of equal marks; take the last so nothing is drawn over it.
+  const point = webview.locator('svg[aria-label^="roofline"] g.layer_2_marks a').last();
+  const pointHref = decodeURIComponent((await point.getAttribute('xlink:href')) ?? '');
+  const [, pointLine] = JSON.parse(pointHref.slice(pointHref.indexOf('?') + 1));
+  // A real click at the point (the webview turns clicks on links into commands; other marks may overlap it, hence force).
+  await point.locator('path').first().click({ force: true });
+  await waitUntil('the cursor at the point\'s line', async () => new RegExp(`Ln ${pointLine},`).test(await page.locator('.statusbar-item', { hasText: /Ln \d+, Col \d+/ }).first().innerText().catch(() => '')), 20000);
+  result.planningPoint = { href: pointHref, line: pointLine, status: await page.locator('.statusbar-item', { hasText: /Ln \d+, Col \d+/ }).first().innerText() };
   await page.locator('.tabs-container .tab', { hasText: 'Planning' }).first().locator('.codicon-close').click({ force: true });
 
   // A person's view of a hover: open the naive port from the explorer, go to the pressure nest,
