@@ -6,7 +6,9 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { applyLineEdits } from '../server/src/core/data/edits';
 import { presetProfile } from '../server/src/core/machine/profiles';
+import { editedLineToOriginal } from '../server/src/lsp/view/planning';
 import { ROOT, runCli } from './helpers';
 
 interface Mark {
@@ -274,3 +276,22 @@ function roofFigures(): Map<string, { bandwidth: number; peak: number }> {
     ['link, double precision', { bandwidth: p.link.bandwidth, peak: p.device.peakFlops }],
   ]);
 }
+
+describe('lines of the what-if analysis mapped back to the user’s file', () => {
+  it('maps every line of the edited text to the original line it is, or that an insertion goes before', () => {
+    // The edits as applyLineEdits applies them (server/src/core/data/edits.ts): each text before its 1-based line.
+    const edits = [{ line: 3, text: '#pragma acc data copy(u)' }, { line: 3, text: '{' }, { line: 10, text: '#pragma acc update self(u)\n/* two lines */' }, { line: 12, text: '}' }];
+    const original = Array.from({ length: 12 }, (_, k) => `line ${k + 1}`);
+    const edited = applyLineEdits(original.join('\n'), edits).split('\n');
+    expect(edited.length).toBe(12 + 5);
+    const back = editedLineToOriginal(edits);
+    edited.forEach((text, k) => {
+      const m = back(k + 1);
+      if (m.inserted) {
+        expect(original).not.toContain(text);
+        // An inserted line maps to the original line it precedes: the next original line below it.
+        expect(edited.slice(k).find((t) => original.includes(t))).toBe(`line ${m.line}`);
+      } else expect(text).toBe(`line ${m.line}`);
+    });
+  });
+});
