@@ -63,9 +63,9 @@ describe.skipIf(!!reason)('the planning report in Chromium', () => {
       const href = await link.getAttribute('xlink:href');
       expect(href).toMatch(/^#N\d+$/);
       await link.dispatchEvent('click');
-      await page.waitForFunction((h) => location.hash === h, href);
+      await page.waitForFunction((h) => (globalThis as unknown as { location: { hash: string } }).location.hash === h, href);
       expect(await page.locator(`tr${href}`).count()).toBe(1);
-      expect(await page.evaluate(() => location.hash)).toBe(href);
+      expect(new URL(page.url()).hash).toBe(href);
       expect(requests).toEqual([]);
     } finally {
       await browser.close();
