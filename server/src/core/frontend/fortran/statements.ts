@@ -31,26 +31,29 @@ export function other(line: Line, values: VExpr[] = []): Stmt {
 
 export const value = (line: Line, ctx: UnitContext, a: number, b: number): VExpr => parseValue(line.text, line.toks, ctx.env, a, b);
 
+/** The two sides of `target op value` at the top level of a line, or undefined without `op`. */
+function sides(line: Line, ctx: UnitContext, op: '=' | '=>'): { target: VExpr; rhs: VExpr } | undefined {
+  const { toks } = line;
+  const at = findTop(toks, line.head, toks.length, op);
+  if (at < 0) return undefined;
+  return { target: new ExprParser(line.text, toks, ctx.env, line.head, at).parse(), rhs: value(line, ctx, at + 1, toks.length) };
+}
+
 /**
  * `p => q` (a pointer assignment): the pointer names the target's storage from here on, which the
  * data ledger follows (the standards map by address). Modelled as an assignment of the name.
  */
 export function pointerAssignment(line: Line, ctx: UnitContext): Stmt {
-  const { toks } = line;
-  const at = findTop(toks, line.head, toks.length, '=>');
-  if (at < 0) return other(line);
-  const target = new ExprParser(line.text, toks, ctx.env, line.head, at).parse();
-  const rhs = value(line, ctx, at + 1, toks.length);
-  if (target.kind !== 'var') return other(line, [rhs]);
-  return { kind: 'assign', target: { kind: 'var', name: target.name }, op: '=', value: rhs, range: lineRange(line), directives: [] };
+  const s = sides(line, ctx, '=>');
+  if (!s) return other(line);
+  if (s.target.kind !== 'var') return other(line, [s.rhs]);
+  return { kind: 'assign', target: { kind: 'var', name: s.target.name }, op: '=', value: s.rhs, range: lineRange(line), directives: [] };
 }
 
 export function assignment(line: Line, ctx: UnitContext): Stmt {
-  const { toks } = line;
-  const eq = findTop(toks, line.head, toks.length, '=');
-  if (eq < 0) return other(line);
-  const target = new ExprParser(line.text, toks, ctx.env, line.head, eq).parse();
-  const rhs = value(line, ctx, eq + 1, toks.length);
+  const s = sides(line, ctx, '=');
+  if (!s) return other(line);
+  const { target, rhs } = s;
   const range = lineRange(line);
   const arrays = { env: ctx.env, loopVars: ctx.loopVars };
   if (target.kind === 'index' || target.kind === 'var') {
