@@ -37,7 +37,7 @@ describe.skipIf(!gcc)('calibrate', () => {
     // Alternate the two so that load from other work on the machine hits both alike.
     let probe = 0;
     let triad = 0;
-    for (let round = 0; round < 3; round++) {
+    for (let round = 0; round < 5; round++) {
       probe = Math.max(probe, calibrate());
       triad = Math.max(triad, triadOnce());
     }
