@@ -3,6 +3,7 @@ import type { FileAnalysis } from '../core/analyze';
 import type { Quantity } from '../core/analysis/bindings';
 import type { TimeLoopReport } from '../core/analyze';
 import { formatBytes } from '../core/symbolic';
+import { nestVariablesText } from '../core/analysis/nests';
 
 export function formatQuantity(q: Quantity): string {
   if (q.value === null) return q.expr;
@@ -28,7 +29,7 @@ export function formatFile(a: FileAnalysis): string {
       rows.push([
         String(n.root.keywordRange.start.line + 1),
         n.procedure.name,
-        n.variables.join(','),
+        nestVariablesText(n.variables),
         n.offload ? `yes (${n.offload.family})` : 'no',
         fmt(r.cost.flopsPerIteration),
         fmt(r.cost.bytes.device),
@@ -89,7 +90,7 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
   const e = t.estimate;
   if (e && e.speedup && e.hostSeconds !== null && e.deviceSeconds !== null) {
     out.push(`    per step: host ${seconds(e.hostSeconds)}; offloaded ${seconds(e.deviceSeconds)} = kernels ${seconds(e.kernelSeconds!)} + launches ${seconds(e.launchSeconds!)} + transfers ${seconds(e.transferSeconds!)} + host code ${seconds(e.hostLeftSeconds!)}`);
-    out.push(`    speedup ${spread(e.speedup)} (expected ${e.speedup.expected.toFixed(2)}×), bound by ${e.bound}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${e.withRegion.bound})` : ''}`);
+    out.push(`    speedup ${spread(e.speedup)} (expected ${factor(e.speedup.expected)}×), bound by ${e.bound}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${e.withRegion.bound})` : ''}`);
     if (e.residentBytes !== null) out.push(`    resident on the device: ${formatBytes(e.residentBytes)}${e.runsPerDevice !== null ? `; ${e.runsPerDevice} run${e.runsPerDevice === 1 ? '' : 's'} fit on one device` : ''}`);
   }
   const r = l.dataRegion;
@@ -113,7 +114,12 @@ function atMostBecause(t: TimeLoopReport): string {
 }
 
 function spread(s: { low: number; high: number }): string {
-  return `${s.low.toFixed(2)}–${s.high.toFixed(2)}×`;
+  return `${factor(s.low)}–${factor(s.high)}×`;
+}
+
+/** A speed-up factor: two decimals, or two significant digits below 0.1 (never "0.00"). */
+function factor(x: number): string {
+  return x >= 0.1 || x === 0 ? x.toFixed(2) : Number(x.toPrecision(2)).toString();
 }
 
 export function seconds(x: number): string {

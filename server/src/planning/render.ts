@@ -11,6 +11,7 @@
  * linked as `path:line` with workspace-relative paths: in the editor each link is a command URI
  * that opens the line; in the HTML file it is the relative path, and chart points go to their row.
  */
+import { nestVariablesText } from '../core/analysis/nests';
 import type { PlanningData, PlanningFile, PlanningMachine, ReportLoop, ReportTimeLoop, ReportTransfer } from '../lsp/protocol';
 import { COLORS, PLANS, type LinkTarget, projectTransfersSpec, rooflineChart, timeLoopSpec } from './charts';
 import { bytes, esc, factor, intensity, percent, rate, seconds } from './format';
@@ -128,7 +129,7 @@ function nestCells(ctx: Ctx, n: NestRow): string[] {
   const tl = n.timeLoop ? `<a href="#${n.timeLoop.label}">${n.timeLoop.label}</a>` : '—';
   return [
     td(`<a href="#${n.label}">${n.label}</a>`, 'label'),
-    td(`${ctx.src(placeOfFile(n.file, l.line))} <small>${esc(l.variables.join(','))} in ${esc(l.function)}</small>`),
+    td(`${ctx.src(placeOfFile(n.file, l.line))} <small>${esc(nestVariablesText(l.variables))} in ${esc(l.function)}</small>`),
     td(l.offloaded ? esc(l.directive ?? 'yes') : sh ? 'no (host code in the loop)' : 'no'),
     td(esc(intensity(l.arithmeticIntensity.device))),
     td(esc(intensity(l.arithmeticIntensity.host))),

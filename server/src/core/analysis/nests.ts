@@ -66,6 +66,14 @@ export interface ScanOptions {
   timeLoopVariables?: readonly string[];
 }
 
+/**
+ * The nest's variables as the user wrote them: loops the front end made from Fortran array
+ * syntax (`h = h + dt*f`, `where`) have synthetic variables, so they read "array syntax (2-D)".
+ */
+export function nestVariablesText(variables: readonly string[], sep = ','): string {
+  return variables.length > 0 && variables.every((v) => /^_i\d+$/.test(v)) ? `array syntax (${variables.length}-D)` : variables.join(sep);
+}
+
 export function scanLoops(model: ProgramModel, options: ScanOptions = {}): NestScan {
   const withLoops = proceduresWithLoops(model);
   const callees = calleesOf(model);

@@ -4,7 +4,7 @@
  * baseline, size bindings); a figure the core did not compute is shown as absent, never guessed.
  */
 import type { NestReport, TimeLoopReport } from '../../core/analyze';
-import { type RejectedLoop, nestIterations } from '../../core/analysis/nests';
+import { type RejectedLoop, nestIterations, nestVariablesText } from '../../core/analysis/nests';
 import type { LoopStmt } from '../../core/model/program';
 import { TIME_LOOP_ANNOTATION } from '../../core/frontend/annotations';
 import { userKeys } from '../../core/analysis/bindings';
@@ -51,7 +51,7 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
   }
   const symbols = ctx.symbolValues(nestIterations(n).expr, n.procedure);
   return [
-    `**Loop nest at line ${line}** · \`${n.variables.join(', ')}\` in \`${n.procedure.name}\` · ${where}`,
+    `**Loop nest at line ${line}** · \`${nestVariablesText(n.variables, ', ')}\` in \`${n.procedure.name}\` · ${where}`,
     '',
     table(rows),
     '',
