@@ -36,7 +36,8 @@ export function formatFile(a: FileAnalysis): string {
         fmt(r.cost.bytes.host),
         r.cost.intensity.device === undefined ? '-' : r.cost.intensity.device.toFixed(2),
         r.cost.intensity.host === undefined ? '-' : r.cost.intensity.host.toFixed(2),
-        r.estimate?.speedup ? `${spread(r.estimate.speedup)} (${r.estimate.bound})` : '-',
+        // A loop that runs on the host has no speedup yet: what it shows is what offloading it could pay.
+        r.estimate?.speedup ? `${spread(r.estimate.speedup)} (${r.estimate.bound})${n.offload ? '' : ' if offloaded'}` : '-',
         formatQuantity(r.iterations) + (r.approximate ? ' (approx., triangular)' : ''),
       ]);
     }

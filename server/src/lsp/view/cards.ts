@@ -45,7 +45,7 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
   ];
   if (est) {
     rows.push(['host time', formatSeconds(est.hostSeconds)], ['device time', formatSeconds(est.deviceSeconds)]);
-    rows.push(['speedup', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
+    rows.push([n.offload ? 'speedup' : 'speedup if offloaded', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
   } else {
     rows.push(['speedup', '— (not estimated)']);
   }
