@@ -70,3 +70,14 @@ describe('sizes and presence follow the call chain', () => {
     expect(tl.transfers.filter((t) => t.cause === 'implicit')).toHaveLength(4);
   });
 });
+
+describe('a pointer given new storage', () => {
+  it('no longer aliases the array it pointed to (no false stale-on-device)', async () => {
+    // p first points at a, then gets its own allocation; host writes through p in the loop touch
+    // that new storage, not a, so the device reads of a are not stale (OpenACC 3.3 §2.6: staleness
+    // needs a host write to the same data).
+    const text = '#include <stdlib.h>\nint main(void) {\n  int n = 1000;\n  double *a = malloc(sizeof(double) * n);\n  double *b = malloc(sizeof(double) * n);\n  double *p = a;\n  for (int i = 0; i < n; i++) p[i] = i;\n  p = malloc(sizeof(double) * n);\n#pragma acc data copy(a[0:n]) create(b[0:n])\n  for (int t = 0; t < 10; t++) {\n#pragma acc parallel loop present(a[0:n], b[0:n])\n    for (int i = 1; i < n - 1; i++) b[i] = 0.5 * (a[i - 1] + a[i + 1]);\n#pragma acc parallel loop present(a[0:n], b[0:n])\n    for (int i = 1; i < n - 1; i++) a[i] = b[i];\n    for (int i = 0; i < n; i++) p[i] = 1.0;\n  }\n  free(a); free(b); free(p);\n  return 0;\n}\n';
+    const a = await analyzeText(text, 'reassigned.c');
+    expect(a.findings.filter((f) => f.severity === 'error').map((f) => f.code)).toEqual([]);
+  });
+});

@@ -401,6 +401,14 @@ export class DataInterpreter {
         return;
       case 'assign':
         if (s.target.kind === 'var' && s.op === '=' && this.alias(s.target.name, s.value, ctx, s.range)) return;
+        // Any other assignment to a pointer (`p = malloc(…)`) gives it storage of its own again.
+        // (A callee's parameter keeps its caller's storage: its own is not modelled.)
+        const own = (n: string): boolean => ctx.frame.depth === 0 || ctx.frame.proc.locals.some((l) => l.name === n);
+        if (s.target.kind === 'var' && ctx.frame.rename.has(s.target.name) && own(s.target.name) && this.isArray(s.target.name, ctx.frame) && !isMember(s.target.name)) {
+          const rename = new Map(ctx.frame.rename);
+          rename.delete(s.target.name);
+          ctx.frame.rename = rename;
+        }
         if (s.target.kind === 'var' && isDeviceAllocation(s.value)) {
           this.devicePointers.add(this.key(s.target.name, ctx.frame));
           return;
