@@ -4,6 +4,7 @@
  * properties call the unguarded reader, so a throw inside it fails the test instead of being
  * absorbed by `buildFortranModel`'s guard.
  */
+import { preprocess } from '../../server/src/core/preprocessor';
 import { readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import fc from 'fast-check';
@@ -25,7 +26,7 @@ const corpus = sources.map((path) => ({ path, text: readFileSync(path, 'utf8') }
 /** Reads with the unguarded reader and checks that the model is well formed. */
 function readStrict(text: string, path: string): ProgramModel {
   const m = emptyFortranModel(path);
-  readFortranInto(m, text, path);
+  readFortranInto(m, text, path, preprocess(text, { path, language: 'fortran' }));
   const lines = text.split('\n').length;
   const inFile = (r: Stmt['range']) => r.start.line >= 0 && r.end.line < lines + 1 && r.start.col >= 0;
   for (const p of m.procedures) {

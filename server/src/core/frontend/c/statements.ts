@@ -67,10 +67,8 @@ export class CStatementBuilder {
     let i = k;
     while (i < nodes.length && ['preproc_call', 'preproc_def', 'preproc_function_def'].includes(nodes[i].type)) {
       const n = nodes[i++];
-      if (n.type !== 'preproc_call') {
-        this.define(n);
-        continue;
-      }
+      // Definitions are the preprocessor's (file and headers, conditionals applied); skip them.
+      if (n.type !== 'preproc_call') continue;
       const d = this.directive(n);
       if (!d) continue;
       if (isStandaloneDirective(d)) out.push({ kind: 'directive', directive: d, range: d.range, directives: [] });
@@ -140,16 +138,6 @@ export class CStatementBuilder {
     }
     if (result.directive) this.ctx.directives.push(result.directive);
     return result.directive;
-  }
-
-  define(n: Node): void {
-    const name = field(n, 'name')?.text;
-    const body = field(n, 'value')?.text ?? '';
-    if (!name) return;
-    const params = n.type === 'preproc_function_def'
-      ? namedChildren(field(n, 'parameters') ?? n).filter((p) => p.type === 'identifier').map((p) => p.text)
-      : undefined;
-    this.ctx.macros.define(name, body.trim(), params);
   }
 
   statement(n: Node): Stmt[] {

@@ -12,7 +12,7 @@ import type { ProgramModel } from '../../model/program';
 import { setWorkspaceLinks } from '../../model/workspace';
 import type { ModuleFinder } from './modules';
 import { type FortranLinks, emptyFortranModel, readFortranInto } from './reader';
-import type { Preprocessed } from '../../preprocessor';
+import { type Preprocessed, preprocess } from '../../preprocessor';
 
 import { isFixedFormPath } from './source';
 import { readStepCounters } from '../../model/stepCounters';
@@ -25,10 +25,12 @@ export { isFixedFormPath };
  * define; without it a `use` of such a module sees nothing, and the workspace step
  * (model/workspace.ts) reads the file again with it when the workspace has the module.
  */
-export function buildFortranModel(text: string, path: string, pp?: Preprocessed, findModule?: ModuleFinder): ProgramModel {
+export function buildFortranModel(text: string, path: string, given?: Preprocessed, findModule?: ModuleFinder): ProgramModel {
   const model = emptyFortranModel(path);
   const source = typeof text === 'string' ? text : '';
-  if (pp) model.findings.push(...pp.findings);
+  // One preprocessor for every language: without the caller's reading, read it with no defines.
+  const pp = given ?? preprocess(source, { path, language: 'fortran' });
+  model.findings.push(...pp.findings);
   let links: FortranLinks = { exports: [], imports: [] };
   try {
     links = readFortranInto(model, source, path, pp, findModule);
@@ -37,7 +39,7 @@ export function buildFortranModel(text: string, path: string, pp?: Preprocessed,
   }
   model.directives.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
   try {
-    readStepCounters(model, markedLoopLines(pp?.text ?? source, 'fortran', isFixedFormPath(path)));
+    readStepCounters(model, markedLoopLines(pp.text, 'fortran', isFixedFormPath(path)));
   } catch {
     // The pass is written not to throw; the counters are only left unread if it does.
   }

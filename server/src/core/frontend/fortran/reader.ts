@@ -31,7 +31,7 @@ export interface FortranLinks {
 }
 
 /** Reads a file into `model`; `findModule` gives the modules of other files when they are known. */
-export function readFortranInto(model: ProgramModel, text: string, path: string, pp?: Preprocessed, findModule?: ModuleFinder): FortranLinks {
+export function readFortranInto(model: ProgramModel, text: string, path: string, pp: Preprocessed, findModule?: ModuleFinder): FortranLinks {
   const src = readSource(text, path, pp);
   const floatMacros = new Map<string, string>();
   const macroConstants = new Map<string, S.Expr>();
@@ -55,7 +55,7 @@ export function readFortranInto(model: ProgramModel, text: string, path: string,
       model.bindings.set(key, e);
     }
   }
-  const entries = entriesOf(src.items, model.directives, model.findings, pp?.macros);
+  const entries = entriesOf(src.items, model.directives, model.findings, pp.macros);
   // Names that directives move or map are variables; `routine` and `declare target` may name
   // procedures, and a construct's own argument (`critical(name)`) is no data, so those are left out.
   const dataNames = new Set(

@@ -6,7 +6,6 @@
 import { readFixed } from './fixed';
 import { readFree } from './free';
 import type { SourceItem } from './items';
-import { preprocess } from './preprocess';
 import type { Preprocessed } from '../../../preprocessor';
 
 export type { SourceItem, StatementItem, DirectiveItem } from './items';
@@ -24,13 +23,11 @@ export function isFixedFormPath(path: string): boolean {
   return /\.(f|for|ftn|f77)$/i.test(path);
 }
 
-/**
- * `pp` is the shared preprocessor's reading of the same text (conditionals evaluated, headers
- * read); without it, the first branch of every conditional is taken.
- */
-export function readSource(text: string, path: string, pp?: Preprocessed): SourceRead {
+/** `pp` is the shared preprocessor's reading of the same text (conditionals evaluated, headers read). */
+export function readSource(text: string, path: string, pp: Preprocessed): SourceRead {
   const lines = text.split('\n').map((l) => (l.endsWith('\r') ? l.slice(0, -1) : l));
-  const { active, defines } = pp ? { active: pp.active, defines: objectMacros(pp) } : preprocess(lines);
+  const active = pp.active;
+  const defines = objectMacros(pp);
   const fixedForm = isFixedFormPath(path);
   const items = fixedForm ? readFixed(lines, active) : readFree(lines, active);
   return { items, defines, fixedForm };
