@@ -1,5 +1,6 @@
 /** Command-line arguments of `offload-ledger`, parsed with node:util's parseArgs. */
 import { parseArgs } from 'node:util';
+import { splitCommandLine } from '../core/preprocessor/flags';
 
 export interface CommonArgs {
   format: 'text' | 'json' | 'sarif' | 'html';
@@ -40,7 +41,18 @@ export interface CalibrateArgs {
   format: 'text' | 'json';
 }
 
-export type CliArgs = CheckArgs | PlanArgs | CalibrateArgs | { command: 'help' } | { command: 'version' } | { command: 'serve' };
+export interface VerifyArgs extends CommonArgs {
+  command: 'verify';
+  paths: string[];
+  /** `--run "ARGS"`: the program's arguments, split as a shell would (no expansion). */
+  runArgs: string[];
+  /** `--compiler PATH`: the clang to build with (default: the newest /usr/lib/llvm-N/bin/clang, else clang). */
+  compiler?: string;
+  /** `--timeout SECONDS` for each of the two runs (default 120). */
+  timeoutSeconds: number;
+}
+
+export type CliArgs = CheckArgs | PlanArgs | VerifyArgs | CalibrateArgs | { command: 'help' } | { command: 'version' } | { command: 'serve' };
 
 export class UsageError extends Error {}
 
@@ -50,6 +62,11 @@ commands:
   check [files|dirs]       loop costs, bytes across the link per time step, stale data, suggested data regions
   plan [files|dirs]        throughput and cost of many independent runs (--runs N, --pool host=H,device=D)
   calibrate                measure this machine's memory bandwidth and write a host profile
+  verify FILE…             build the program with separate host and device memories (clang's OpenMP
+                           offloading to the host), run it, and show the bytes each construct moved beside
+                           the ledger's, and whether the results differ from a shared-memory build
+  translate FILE --to M    rewrite the directives for the other model (openmp or openacc); prints a diff,
+                           --write applies it
   serve --stdio            run the language server (also --node-ipc, --socket=N)
 
 options:
@@ -74,6 +91,9 @@ options:
   --cc PATH                calibrate: C compiler with OpenMP (default: gcc, cc or clang from the PATH; --compiler is the same)
   --out FILE               calibrate: machines file to write the measured profile into
   --max-threads N          calibrate: measure 1..N threads (default: all cores)
+  --run "ARGS"             verify: the program's arguments
+  --compiler PATH          verify: the clang to build with (default: the newest /usr/lib/llvm-N/bin/clang)
+  --timeout SECONDS        verify: time limit of each run (default 120)
   --help, --version
 
 exit status: 0 no error findings, 1 error findings, 2 usage or input errors`;
@@ -108,6 +128,8 @@ export function parseCli(argv: string[]): CliArgs {
         compiler: { type: 'string' },
         out: { type: 'string' },
         'max-threads': { type: 'string' },
+        run: { type: 'string' },
+        timeout: { type: 'string' },
         'array-mib': { type: 'string' },
         stdio: { type: 'boolean' },
         'node-ipc': { type: 'boolean' },
@@ -132,7 +154,7 @@ export function parseCli(argv: string[]): CliArgs {
       maxThreads: positiveInt(values['max-threads'], '--max-threads'), arrayMiB: positiveInt(values['array-mib'], '--array-mib'),
     };
   }
-  if (command !== 'check' && command !== 'plan') throw new UsageError(`unknown command \`${command}\`; the commands are: check, plan, calibrate, serve`);
+  if (command !== 'check' && command !== 'plan' && command !== 'verify') throw new UsageError(`unknown command \`${command}\`; the commands are: check, plan, verify, translate, calibrate, serve`);
   // No paths: the files of the compilation database (main.ts says so when there is none).
   const bindings = new Map<string, number>();
   for (const b of values.bind ?? []) {
@@ -162,6 +184,13 @@ export function parseCli(argv: string[]): CliArgs {
     ...(values['compile-commands'] !== undefined ? { compileCommands: values['compile-commands'] } : {}),
   };
   if (command === 'check') return { command, paths, ...common };
+  if (command === 'verify') {
+    if (format !== 'text' && format !== 'json') throw new UsageError('verify prints text or json');
+    return {
+      command, paths, ...common, runArgs: values.run !== undefined ? splitCommandLine(values.run) : [],
+      compiler: values.compiler ?? values.cc, timeoutSeconds: positiveInt(values.timeout, '--timeout') ?? 120,
+    };
+  }
   const runs = positiveInt(values.runs, '--runs') ?? 1;
   let pool: PlanArgs['pool'];
   if (values.pool !== undefined) {

@@ -18,11 +18,14 @@ import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
 import { planningHtml } from '../planning/html';
 import { startServer } from '../lsp';
+import { formatVerify, verify, verifyJson } from './verify';
+// TRANSLATE-WIRING import { runTranslate } from './translate';
 
 type Out = (s: string) => void;
 
 export async function run(argv: string[], out: Out, err: Out): Promise<number> {
   try {
+    // TRANSLATE-WIRING if (argv[0] === 'translate') return await runTranslate(argv.slice(1), { stdout: out, stderr: err });
     const args = parseCli(argv);
     switch (args.command) {
       case 'help':
@@ -41,6 +44,13 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
         if (args.format === 'json') out(JSON.stringify({ file, host, measurements }, null, 2));
         else out(`wrote profile \`measured\` to ${file}: ${(host.bandwidthNode / 1e9).toFixed(1)} GB/s node, ${(host.bandwidthCore / 1e9).toFixed(1)} GB/s one core; use it with --profile measured`);
         return 0;
+      }
+      case 'verify': {
+        const r = await verify(args, (line) => err(`offload-ledger: ${line}`));
+        out(args.format === 'json' ? JSON.stringify(verifyJson(r), null, 2) : formatVerify(r, (p) => relative(process.cwd(), p).split(sep).join('/')));
+        // 1 when the run failed, the builds disagree or a construct moved other bytes than predicted.
+        const failed = r.separate.timedOut || r.separate.signal !== null || r.separate.status !== 0;
+        return failed || r.sameOutput === false || r.comparison.differences > 0 ? 1 : 0;
       }
       default:
         return await analyse(args, out, err);

@@ -49,6 +49,11 @@ export interface TimeLoopLedger {
   /** Transfers per step (each a synchronising copy; one every K steps counts 1/K): latency, not bandwidth, prices small ones. */
   transfersPerStep: number;
   run: TimeLoopRun;
+  /**
+   * The transfers of the same program run outside the time loops (before, after, and in the
+   * entry run from the program's root), each once: what `verify` compares whole-run totals with.
+   */
+  outside: TransferReport[];
 }
 
 export interface DataLedgerOptions {
@@ -90,10 +95,11 @@ export function dataLedger(
     const bindings = bindingsOf(proc);
     for (const run of interp.runs) {
       const steps = quantity(run.loop.tripCount ?? S.sym(`trips_L${run.loop.keywordRange.start.line + 1}`), bindings);
-      const transfers = run.transfers.map((t) => ({
+      const asReport = (t: TransferRecord): TransferReport => ({
         range: t.range, at: t.at, origin: t.origin, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes, everySteps: t.everySteps, cause: t.cause,
         ...(t.scalar ? { scalar: true } : {}),
-      }));
+      });
+      const transfers = run.transfers.map(asReport);
       const perStep = (dir: 'toDevice' | 'toHost'): Quantity => perStepQuantity(run.transfers.filter((t) => t.direction === dir), bindings);
       const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit'));
       const once = (dir: 'toDevice' | 'toHost'): Quantity => quantity(S.add(S.num(0), ...onceRecs.filter((t) => t.direction === dir).map((t) => t.bytes)), bindings);
@@ -102,6 +108,7 @@ export function dataLedger(
         loop: run.loop, procedure: run.procedure, steps, perStep: { toDevice: perStep('toDevice'), toHost: perStep('toHost') },
         once: { toDevice: once('toDevice'), toHost: once('toHost') }, transfers, dataRegion, residentBytes: run.residentPeak, run,
         transfersPerStep: run.transfers.reduce((n, t) => n + 1 / t.everySteps, 0),
+        outside: interp.outside.map(asReport),
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
