@@ -26,6 +26,7 @@ import type { ArrayAccess, LoopStmt, ProgramModel, Stmt, VExpr } from '../model/
 import { clausesNamed, collapseCount, isLoopDirective } from '../model/directives';
 import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
 import { linearise, probeValues } from '../cost/footprint';
+import { unclamp } from '../cost/clamps';
 import { Scope } from '../cost/scope';
 import type { Directive, Finding, Fix, Range } from '../types';
 import { rangeWithin } from '../ranges';
@@ -102,9 +103,14 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
         const decl = scope.lookup(a.array);
         if (decl && !decl.isArray) continue;
         const subs = (a.subscripts as S.Expr[]).map((x) => S.substitute(x, outer));
-        const parts = S.affine(linearise(subs, decl, model.layout, a.array), vars);
+        const linear = linearise(subs, decl, model.layout, a.array);
+        // A clamped neighbour read (`h(min(i+1,nx))`) reads i+1 except at the edge, where it reads
+        // the edge element again: tested as the neighbour, and as guarded, since not every
+        // iteration makes that exact reference (the bounded test claims exactness).
+        const clamped = a.isRead && !a.isWrite ? unclamp(linear, vars) : undefined;
+        const parts = S.affine(clamped ?? linear, vars);
         if (!parts) continue;
-        refs.set(a.array, [...(refs.get(a.array) ?? []), { access: a, coeffs: parts.coeffs, rest: parts.rest, loops: around, guarded }]);
+        refs.set(a.array, [...(refs.get(a.array) ?? []), { access: a, coeffs: parts.coeffs, rest: parts.rest, loops: around, guarded: guarded || !!clamped }]);
       }
       if (s.kind === 'loop') visit(s.body, [...around, s], guarded || !s.variable);
       else if (s.kind === 'if') visit(childStatements(s), around, true);

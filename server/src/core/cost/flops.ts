@@ -6,6 +6,8 @@
  * below, which is this tool's documented convention (docs/cost-model.md), not a measurement.
  */
 import type { ElementType, VExpr } from '../model/program';
+import * as S from '../symbolic';
+import { integerLiteral } from '../model/values';
 import type { Scope } from './scope';
 
 /**
@@ -121,6 +123,7 @@ export function countFlops(e: VExpr, scope: Scope, acc: FlopCount = { flops: 0, 
   if (isConstantFolded(e, scope)) return acc;
   switch (e.kind) {
     case 'bin':
+      if (e.op === '**') return powerFlops(e.left, e.right, scope, acc);
       countFlops(e.left, scope, acc);
       countFlops(e.right, scope, acc);
       if (['+', '-', '*', '/'].includes(e.op) && isFloatValue(e, scope)) acc.flops += 1;
@@ -149,6 +152,71 @@ export function countFlops(e: VExpr, scope: Scope, acc: FlopCount = { flops: 0, 
     default:
       return acc;
   }
+}
+
+/**
+ * Multiplications that evaluate x**n for a whole n ≥ 0 by repeated squaring (common practice:
+ * compilers expand an integer power this way, gfortran through `__builtin_powi`):
+ * floor(log2 n) squarings plus popcount(n) − 1 multiplications of partial products. x**0 and
+ * x**1 cost nothing, x**2 one, x**3 two, x**4 two, x**5 three, x**8 three.
+ */
+export function integerPowerMultiplications(n: number): number {
+  if (!Number.isSafeInteger(n) || n < 0) throw new RangeError(`not a whole exponent: ${n}`);
+  if (n <= 1) return 0;
+  let squarings = 0;
+  let ones = 0;
+  for (let k = n; k > 0; k = Math.floor(k / 2)) {
+    if (k % 2 === 1) ones++;
+    if (k > 1) squarings++;
+  }
+  return squarings + ones - 1;
+}
+
+/**
+ * The whole-number value of an exponent the compiler knows: an integer literal (`2`, `2_8`), a
+ * sign before one (`-2`, `(-2)`), or an integer named constant with a literal value (Fortran
+ * `integer, parameter :: p = 3`, C `const int p = 3`). A real literal (`2.0`) is not one: the
+ * standard evaluates it as a real power.
+ */
+function wholeExponent(e: VExpr, scope: Scope): number | undefined {
+  switch (e.kind) {
+    case 'num': {
+      if (e.isFloat) return undefined;
+      const v = integerLiteral(e.text);
+      return v === undefined ? undefined : v;
+    }
+    case 'unary': {
+      if (e.op !== '-' && e.op !== '+') return undefined;
+      const v = wholeExponent(e.operand, scope);
+      return v === undefined ? undefined : e.op === '-' ? -v : v;
+    }
+    case 'var': {
+      const d = scope.lookup(e.name);
+      if (!d || !d.isConst || d.isArray || d.type.isFloat || !d.init) return undefined;
+      return S.constValue(d.init);
+    }
+    default:
+      return undefined;
+  }
+}
+
+/**
+ * Flops of `base ** exponent` (Fortran). A whole exponent the compiler knows costs the
+ * multiplications of repeated squaring, and a negative one a division more (x**(-2) = 1/(x*x)).
+ * Any other exponent (real, or a variable) costs as a call of `pow`, the weight of C `pow`.
+ * An integer power of an integer is index arithmetic and costs nothing.
+ */
+function powerFlops(base: VExpr, exponent: VExpr, scope: Scope, acc: FlopCount): FlopCount {
+  countFlops(base, scope, acc);
+  const float = isFloatValue(base, scope) || isFloatValue(exponent, scope);
+  const n = wholeExponent(exponent, scope);
+  if (n !== undefined) {
+    if (float && Math.abs(n) <= 2 ** 31) acc.flops += integerPowerMultiplications(Math.abs(n)) + (n < 0 ? 1 : 0);
+    return acc;
+  }
+  countFlops(exponent, scope, acc);
+  if (float) acc.flops += MATH_FLOPS.pow;
+  return acc;
 }
 
 /** Flops of an assignment: the right-hand side, plus one for a compound `+= -= *= /=` on a floating target. */

@@ -8,6 +8,7 @@ import { accessesOfStatement, childStatements } from '../model/values';
 import type { LoopNest } from '../analysis/nests';
 import { type ArrayFootprint, arrayFootprint, centreOffsets } from './footprint';
 import { coveredReads } from './reuse';
+import { unclamp } from './clamps';
 import { assignmentFlops, countFlops } from './flops';
 import { intensity } from './roofline';
 import { Scope } from './scope';
@@ -69,7 +70,9 @@ export function nestCost(nest: LoopNest, model: ProgramModel, bindings: Readonly
 
   // Bytes: footprints per array, then traffic in both views.
   const subscripts = new Map<ArrayAccess, (S.Expr | undefined)[]>();
-  for (const a of accesses) subscripts.set(a, a.subscripts.map((s) => (s ? S.substitute(s, outer) : undefined)));
+  // A clamped neighbour read (`h(min(i+1,nx),j)`) costs as the neighbour it clamps (cost/clamps.ts).
+  const read = (a: ArrayAccess, s: S.Expr): S.Expr => (a.isRead && !a.isWrite ? unclamp(s, nestVars) ?? s : s);
+  for (const a of accesses) subscripts.set(a, a.subscripts.map((s) => (s ? read(a, S.substitute(s, outer)) : undefined)));
   const covered = coveredReads(nest.root, (a) => subscripts.get(a) ?? a.subscripts);
   const byArray = new Map<string, { access: ArrayAccess; subscripts: (S.Expr | undefined)[]; covered: boolean }[]>();
   for (const a of accesses) {

@@ -8,6 +8,7 @@ import { ElementTypes } from '../../model/types';
 import type { TypeAliases } from './templates';
 import { printValue, toSymbolic } from '../../model/values';
 import { parseExpr } from '../../symbolic';
+import { subscriptSymbolic } from './expressionsClamps';
 import { MacroTable, instantiate } from './macros';
 import { type Node, field, namedChildren, operatorOf, rangeOf, unparen } from './nodes';
 
@@ -106,7 +107,7 @@ export class CExpressionBuilder {
     const values = indices.map((i) => this.value(i));
     return {
       array: normaliseName(base.text),
-      subscripts: values.map((v) => toSymbolic(v)),
+      subscripts: values.map(subscriptSymbolic),
       subscriptText: values.map(printValue),
       subscriptValues: values,
       isWrite,
