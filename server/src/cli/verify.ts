@@ -1,12 +1,12 @@
 /**
- * `offload-ledger verify FILE…`: measures what the ledger predicts. The program is built twice
- * with clang: once for LLVM's OpenMP offloading with the host itself as the target device
- * (`-fopenmp-targets=x86_64-pc-linux-gnu`), whose runtime (libomptarget) keeps separate device
- * copies and logs every copy with its size and source line (`LIBOMPTARGET_INFO=-1`); once with
- * plain `-fopenmp`, where target regions run in the host's own memory. The first run's log gives
- * the bytes per construct and per time step beside the ledger's; the two runs' outputs, compared,
- * say whether the program depends on data that is stale on one side (a missing update shows only
- * with separate memories, as on a GPU).
+ * `offload-ledger verify FILE…`: measures what the ledger predicts. The program is built with
+ * clang for LLVM's OpenMP offloading with the host itself as the target device
+ * (`-fopenmp-targets=x86_64-pc-linux-gnu`), and run twice: with offloading mandatory, where the
+ * runtime (libomptarget) keeps separate device copies and logs every copy with its size and
+ * source line (`LIBOMPTARGET_INFO=-1`); and with offloading disabled, where target regions run in
+ * the host's own memory. The first run's log gives the bytes per construct and per time step
+ * beside the ledger's; the two runs' outputs, compared, say whether the program depends on data
+ * that is stale on one side (a missing update shows only with separate memories, as on a GPU).
  *
  * OpenACC programs are translated to OpenMP first (clang has no OpenACC), and the report says so.
  * Nothing the user wrote is changed: builds and translations live in a temporary folder.
@@ -165,7 +165,7 @@ async function verifyIn(
   // The ledger of what is built (the translation keeps every line where it was).
   const files = built.map((b, k) => ({ ...sources[k], path: b.path, text: b.text }));
   const models = files.map((f) => buildModel(f, deps, { ...settings, directives: 'openmp' as const, includeDirs: [...args.includeDirs, ...sources.map((s) => dirname(s.path))] }));
-  const analyses: FileAnalysis[] = files.map((f, k) => analyzeSource({ ...f, model: models[k] }, deps, { ...settings, bindings: args.bindings, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }));
+  const analyses: FileAnalysis[] = files.map((f, k) => analyzeSource({ ...f, model: models[k] }, deps, { ...settings, bindings: args.bindings, programRun: true, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }));
   for (const a of analyses) for (const ie of a.internalErrors) note(`internal error while analysing ${basename(a.path)}: ${ie.split('\n')[0]}`);
   if (args.runArgs.length > 0 && analyses.some((a) => a.model.procedures.some((p) => (p.assumptions ?? []).some((n) => /argument|environment/.test(n))))) {
     notes.push('the ledger assumed the sizes a run without arguments uses; give the sizes your --run arguments set with --bind NAME=VALUE so the prediction matches the run');
@@ -177,15 +177,13 @@ async function verifyIn(
     ...[...args.defines].map(([k, v]) => `-D${k}=${v}`), ...args.undefines.map((u) => `-U${u}`),
     ...[...args.includeDirs, ...sources.map((s) => dirname(s.path))].map((d) => `-I${resolve(d)}`),
   ];
-  const sep = join(work, 'separate');
-  const shr = join(work, 'shared');
+  const sep = join(work, 'program');
   const srcs = built.map((b) => b.path);
   const e1 = compile(cc, tc.pathPrefix, ['-O1', '-gline-tables-only', '-fopenmp', `-fopenmp-targets=${TARGET}`, ...flags, ...srcs, '-o', sep, '-lm']);
   if (e1) {
     if (/offload-wrapper|fopenmp-targets|libomptarget|cannot find -lomptarget|unable to execute command/i.test(e1)) throw new InputError(`building for the host-as-device target failed (${e1.split('\n')[0]}); ${INSTALL_HINT}`);
     throw new InputError(`the program does not build with ${cc} -fopenmp -fopenmp-targets=${TARGET}:\n${firstLines(e1, 12)}`);
   }
-  const e2 = compile(cc, tc.pathPrefix, ['-O1', '-fopenmp', ...flags, ...srcs, '-o', shr, '-lm']);
 
   const timeoutMs = args.timeoutSeconds * 1000;
   const reader = new MapLogReader();
@@ -195,8 +193,9 @@ async function verifyIn(
     return !/^Libomptarget (fatal )?error/.test(l);
   });
   const log = reader.result();
-  const shared = e2 ? null : await runProgram(shr, args.runArgs, envWith(tc.pathPrefix), timeoutMs);
-  if (e2) notes.push(`the shared-memory build failed: ${e2.split('\n')[0]}`);
+  // The same program with offloading switched off runs its target regions in the host's own
+  // memory (OpenMP 5.2 §3.4, OMP_TARGET_OFFLOAD=DISABLED): the shared-memory result.
+  const shared = await runProgram(sep, args.runArgs, envWith(tc.pathPrefix, { OMP_TARGET_OFFLOAD: 'DISABLED' }), timeoutMs);
 
   let sameOutput: boolean | null = null;
   let firstDifference: VerifyReport['firstDifference'];
@@ -261,8 +260,9 @@ export function formatVerify(r: VerifyReport, shown: (p: string) => string): str
   }
   const rows = r.comparison.constructs.filter((c) => c.executions > 0 || c.predicted);
   if (rows.length > 0) {
-    out.push('  line        runs    to device measured / predicted     to host measured / predicted       ');
-    for (const c of rows) out.push(`  ${constructLine(c, shown)}`);
+    const w = Math.max(11, ...rows.map((c) => `${basename(shown(c.file))}:${c.line}`.length));
+    out.push(`  ${'construct'.padEnd(w)}  runs    ${'to device: measured / ledger'.padEnd(30)} to host: measured / ledger`);
+    for (const c of rows) out.push(`  ${constructLine(c, shown, w)}`);
   } else out.push('  no offload construct ran');
   for (const t of r.comparison.timeLoops) {
     if (!t.measured || !t.predictedEveryStep) {
@@ -275,15 +275,24 @@ export function formatVerify(r: VerifyReport, shown: (p: string) => string): str
       out.push(`    line ${p.line}: ran in ${p.runs} of ${t.steps} steps and moved ${bytes(p.measured)}; the ledger has ${bytes(p.predictedPerRun)} every ${p.everySteps} steps`);
     }
   }
-  out.push(`  ${r.comparison.differences === 0 ? 'every construct moved the bytes the ledger predicts' : `${r.comparison.differences} construct${r.comparison.differences === 1 ? '' : 's'} moved other bytes than the ledger predicts (marked ≠)`}. Measured with separate memories on this host: the bytes are the standard's data movement, not a GPU's timing.`);
+  const unbound = r.comparison.constructs.filter((c) => c.verdict === 'unbound').length;
+  const d = r.comparison.differences;
+  const verdict = d > 0 ? `${d} construct${d === 1 ? '' : 's'} moved other bytes than the ledger predicts (marked ≠)`
+    : unbound > 0 ? 'no construct moved other bytes than the ledger predicts where it could be compared'
+    : 'every construct moved the bytes the ledger predicts';
+  const open = unbound > 0 ? `; ${unbound} construct${unbound === 1 ? '' : 's'} (marked ?) could not be compared: a size is unbound, give it with -D or --bind` : '';
+  const early = !finished(r.separate) || r.separate.status !== 0;
+  out.push(early
+    ? `  the run ended early (${runState(r.separate)}), so the figures above cover only the part that ran`
+    : `  ${verdict}${open}. Measured with separate memories on this host: the bytes are the standard's data movement, not a GPU's timing.`);
   return out.join('\n');
 }
 
-function constructLine(c: ConstructComparison, shown: (p: string) => string): string {
-  const where = `${basename(shown(c.file))}:${c.line}`.padEnd(11);
+function constructLine(c: ConstructComparison, shown: (p: string) => string, width: number): string {
+  const where = `${basename(shown(c.file))}:${c.line}`.padEnd(width);
   const runs = String(c.executions).padStart(5);
-  const pd = c.predicted ? range(c.predicted.toDevice) : '—';
-  const ph = c.predicted ? range(c.predicted.toHost) : '—';
+  const pd = c.verdict === 'unbound' ? 'unbound' : c.predicted ? range(c.predicted.toDevice) : '—';
+  const ph = c.verdict === 'unbound' ? 'unbound' : c.predicted ? range(c.predicted.toHost) : '—';
   const mark = c.verdict === 'equal' ? ' ' : c.verdict === 'unbound' ? '?' : '≠';
   const dev = `${bytes(c.measured.toDevice)} / ${pd}`.padEnd(30);
   const host = `${bytes(c.measured.toHost)} / ${ph}`.padEnd(30);

@@ -17,7 +17,7 @@ import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, qu
 import { type LoopNest, type RejectedLoop, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
 import { raceFindings } from './analysis/races';
-import { type TimeLoopLedger, dataLedger } from './data/ledger';
+import { type TimeLoopLedger, type TransferReport, dataLedger, programTransfers } from './data/ledger';
 import { applyLineEdits } from './data/edits';
 import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/profiles';
 import { nestEstimate } from './estimate/nest';
@@ -65,6 +65,8 @@ export interface AnalyzeOptions extends PreprocessSettings {
   deviceMemoryBytes?: number;
   /** Internal: false when analysing the file with the suggested edits applied (no further what-if). */
   whatIf?: boolean;
+  /** Also predict the transfers of a whole run of a program without time loops (`verify`). */
+  programRun?: boolean;
   /** Models of the other files of the workspace: calls into them are followed. */
   workspace?: readonly ProgramModel[];
   /** Loop variables the user names as time-loop variables (`--time-loop iter`); default none. */
@@ -142,6 +144,8 @@ export interface FileAnalysis {
   notTimeLoops: RejectedLoop[];
   findings: Finding[];
   internalErrors: string[];
+  /** With `programRun`, for a program that has no time loop: its transfers from `main` to the end. */
+  programTransfers?: TransferReport[];
 }
 
 export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
@@ -211,6 +215,9 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     });
     const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
     result.findings.push(...data.findings);
+    if (options.programRun && data.ledgers.length === 0) {
+      result.programTransfers = programTransfers(model, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? []);
+    }
     for (const tl of ownTimeLoops) {
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
       const ledger = data.ledgers.find((l) => l.loop === tl.loop);

@@ -60,6 +60,6 @@ export function entryRootOf(model: ProgramModel, proc: Procedure): Procedure | u
   return roots.find((r) => isMain(r.name)) ?? roots[0];
 }
 
-function isMain(name: string): boolean {
+export function isMain(name: string): boolean {
   return name === 'main' || name.startsWith('program ') || name === 'MAIN__';
 }

@@ -4,7 +4,7 @@
  * keeps the arrays resident.
  */
 import { relativeToFile } from '../paths';
-import { entryRootOf } from './entry';
+import { entryRootOf, isMain } from './entry';
 import * as S from '../symbolic';
 import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
 import type { TimeLoop } from '../analysis/nests';
@@ -118,6 +118,28 @@ export function dataLedger(
     }
   }
   return { ledgers, findings };
+}
+
+/**
+ * The transfers of a whole run of a program that has no time loop, from its `main` (each loop
+ * that holds device work counted by its trip count): what `verify` compares such a program with.
+ * Undefined when the file has no `main`.
+ */
+export function programTransfers(
+  model: ProgramModel,
+  bindingsOf: (p: Procedure) => Map<string, S.Expr>,
+  nestStrides: (key: string) => S.Expr[][],
+): TransferReport[] | undefined {
+  const main = model.procedures.find((p) => isMain(p.name));
+  if (!main) return undefined;
+  const procs = new Map(model.procedures.map((p) => [p.name, p]));
+  const interp = new DataInterpreter(model, new Set(), bindingsOf, nestStrides, procs);
+  interp.runProcedure(main);
+  const bindings = bindingsOf(main);
+  return interp.outside.map((t) => ({
+    range: t.range, at: t.at, origin: t.origin, via: t.via, array: t.array, direction: t.direction, bytes: quantity(t.bytes, bindings), bytesExpr: t.bytes,
+    everySteps: t.everySteps, cause: t.cause, ...(t.scalar ? { scalar: true } : {}),
+  }));
 }
 
 /**

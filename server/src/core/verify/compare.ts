@@ -74,6 +74,12 @@ export function compareRun(analyses: FileAnalysis[], measured: MeasuredConstruct
   const ledgers: { ledger: TimeLoopLedger; path: string; line: number }[] = [];
   const seenOutside = new Set<string>();
   for (const a of analyses) {
+    for (const t of a.programTransfers ?? []) {
+      const p = predictionAt(preds, t, a.path);
+      p.outside = true;
+      if (t.bytes.value === null) { p.unbound = true; continue; }
+      add(p, t, t.bytes.value, t.bytes.value);
+    }
     for (const tl of a.timeLoops) {
       if (!tl.ledger) continue;
       ledgers.push({ ledger: tl.ledger, path: a.path, line: tl.ledger.loop.keywordRange.start.line + 1 });
@@ -118,7 +124,12 @@ export function compareRun(analyses: FileAnalysis[], measured: MeasuredConstruct
       measured: { toDevice: m.toDevice, toHost: m.toHost }, predicted: null, verdict: 'equal',
     };
     const loop = p && p.inLoop.size === 1 ? [...p.inLoop][0] : !p ? loopOf(m.file, m.line) : undefined;
-    if (!p) {
+    const whole = analyses.find((a) => fileBase(a.path) === fileBase(m.file))?.programTransfers;
+    if (!p && whole) {
+      // A program without time loops whose run the ledger followed: a construct it has no transfer for moves nothing.
+      row.predicted = { toDevice: zero(), toHost: zero() };
+      if (m.toDevice + m.toHost > 0) { row.verdict = 'differs'; row.note = 'the ledger predicts no transfer here'; }
+    } else if (!p) {
       if (loop) row.predicted = { toDevice: zero(), toHost: zero() };
       if (m.toDevice + m.toHost > 0) {
         row.verdict = loop ? 'differs' : 'unmodelled';
