@@ -9,6 +9,7 @@ import { ClientCommands, StatusNotification } from '../../server/src/lsp/protoco
 import { checkWorkspace } from './commands/checkWorkspace';
 import { chooseProfile } from './commands/chooseProfile';
 import { measureMachine } from './commands/measureMachine';
+import { measureTransfers } from './commands/measureTransfers';
 import { PlanningView } from './commands/planningView';
 import { createClient } from './serverClient';
 import { ProfileStatus } from './statusBar';
@@ -56,6 +57,7 @@ export async function activate(context: vscode.ExtensionContext): Promise<Offloa
     vscode.commands.registerCommand(ClientCommands.openPlanningView, (uri?: string, line?: number) => planning.open(uri, line)),
     vscode.commands.registerCommand(ClientCommands.chooseProfile, chooseProfile),
     vscode.commands.registerCommand(ClientCommands.measureMachine, () => measureMachine(context, output)),
+    vscode.commands.registerCommand(ClientCommands.measureTransfers, () => measureTransfers(context, output)),
     vscode.commands.registerCommand(ClientCommands.showOutput, () => output.show()),
     vscode.commands.registerCommand(ClientCommands.restartServer, async () => {
       const old = client;

@@ -14,6 +14,7 @@ export const ClientCommands = {
   openPlanningView: 'offloadLedger.openPlanningView',
   chooseProfile: 'offloadLedger.chooseProfile',
   measureMachine: 'offloadLedger.measureMachine',
+  measureTransfers: 'offloadLedger.measureTransfers',
   restartServer: 'offloadLedger.restartServer',
   showOutput: 'offloadLedger.showOutput',
 } as const;

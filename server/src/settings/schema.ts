@@ -130,6 +130,20 @@ export const SETTINGS = {
     usedBy: 'client',
     markdownDescription: 'C compiler that `Offload Ledger: Measure This Machine` uses to build its measurement kernels. Empty: the tool looks for one on the PATH.',
   },
+  'verify.compiler': {
+    type: 'string',
+    default: '',
+    scope: 'machine',
+    usedBy: 'client',
+    markdownDescription: 'clang that `Offload Ledger: Measure Transfers With Separate Memory` builds the program with, for OpenMP offloading to the host (needs `libomp-dev` and `clang-tools-14` on Debian). Empty: the newest `/usr/lib/llvm-N/bin/clang`, else `clang` on the PATH.',
+  },
+  'verify.runArguments': {
+    type: 'string',
+    default: '',
+    scope: 'resource',
+    usedBy: 'client',
+    markdownDescription: 'Arguments the program gets when `Offload Ledger: Measure Transfers With Separate Memory` runs it (as `offload-ledger verify --run`). Sizes they set should also be given in `sizeBindings`, so the prediction matches the run.',
+  },
   'trace.server': {
     type: 'string',
     enum: ['off', 'messages', 'verbose'],
