@@ -142,7 +142,7 @@ export function translateDirectives(text: string, language: Language, to: Target
       hasNestedLoops: parsed.some((q) => q !== p && q.d.model === 'omp' && contains(p, q.d.startLine) && isLoop('omp', q.construct)),
       markers: markerLines.map((l) => lines[l]),
       pointerNames,
-      regionNames: new Set(p.regionEnd > d.endLine ? lines.slice(d.endLine + 1, p.regionEnd + 1).join('\n').match(/[A-Za-z_]\w*/g) ?? [] : []),
+      regionNames: new Set(p.regionEnd > d.endLine ? lines.slice(d.endLine + 1, p.regionEnd + 1).join('\n').match(/(?<![\w.])[A-Za-z_]\w*/g) ?? [] : []),
       functionNames,
     };
     if (from === 'omp' && inDeclareTarget(d.startLine)) ctx.markers.push('in declare target');
