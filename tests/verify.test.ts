@@ -19,6 +19,8 @@ import { describe, expect, it } from 'vitest';
 import { parseCli, type VerifyArgs } from '../server/src/cli/args';
 import { findToolchain, formatVerify, verify, type VerifyReport } from '../server/src/cli/verify';
 import { readMapLog } from '../server/src/core/verify/mapLog';
+import { compareOutputs } from '../server/src/core/verify/outputs';
+import { applyLineEdits } from '../server/src/core/data/edits';
 import type { TextEdit } from '../server/src/core/types';
 import { ROOT, analyzeText, runCli } from './helpers';
 
@@ -76,6 +78,21 @@ describe('the mapping log reader (libomptarget 14 format)', () => {
     for (const t of ['', '\0\0\0', 'Libomptarget', 'Libomptarget device 0 info: Entering OpenMP kernel at :x:y', log.slice(0, 333)]) {
       expect(() => readMapLog(t)).not.toThrow();
     }
+  });
+});
+
+describe('output comparison', () => {
+  it('leaves out timings: lines that change between two runs of one build, or that name a time or a rate', () => {
+    const sep = 'sum 1.5\nAvg time (s): 0.0007\nRate (MB/s): 4302.2\nchecksum 7\n';
+    const shr = 'sum 1.5\nAvg time (s): 0.0001\nRate (MB/s): 9999.0\nchecksum 7\n';
+    expect(compareOutputs(sep, shr)).toEqual({ same: true, ignored: [2, 3] });
+    // A result line that differs is a difference, even beside timings.
+    expect(compareOutputs('sum 1.5\n', 'sum 2.5\n')).toMatchObject({ same: false, firstDifference: { line: 1 } });
+    // A line without timing words that changes between two shared runs (a random seed) is left out.
+    expect(compareOutputs('seed 7\nsum 1\n', 'seed 9\nsum 1\n', 'seed 3\nsum 1\n')).toEqual({ same: true, ignored: [1] });
+    // A timing word does not hide a changed line of another shape, and simulated time is a result.
+    expect(compareOutputs('rate 10 sum 96\n', 'rate 10 sum 221 (x)\n').same).toBe(false);
+    expect(compareOutputs('time 0.5 energy 1.25\n', 'time 0.5 energy 1.5\n').same).toBe(false);
   });
 });
 
@@ -182,6 +199,38 @@ describe.skipIf(!haveOffload)('verify: measured bytes per construct equal the le
       expect(after.comparison.differences).toBe(0);
       expect(after.comparison.timeLoops[0].measured).toEqual({ toDevice: 8, toHost: 0 });
       expect(after.shared?.stdout).toBe(before.shared?.stdout);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  // The suggested data region of each OpenMP program (tests/data-region.test.ts compiles them with
+  // gcc's shared memory): with separate memories it must keep the results, and the bytes it still
+  // moves must be the ledger's of the edited program (only the updates host code needs).
+  it.each<{ file: string; defines: Record<string, string> }>([
+    { file: 'examples/heat2d/heat2d_omp.c', defines: { NX: '64', NY: '48', STEPS: '21' } },
+    { file: 'examples/hall/hall_naive_omp.c', defines: { NX: '40', NY: '30', NZ: '20', STEPS: '12' } },
+    { file: 'tests/fixtures/data/omp_host_source.c', defines: {} },
+  ])('the suggested data region of $file, measured', async ({ file, defines }) => {
+    const text = readFileSync(join(ROOT, file), 'utf8');
+    const settings = { defines: new Map(Object.entries(defines)) };
+    const analysis = await analyzeText(text, join(ROOT, file), undefined, undefined, undefined, settings);
+    const edits = analysis.timeLoops.flatMap((t) => t.ledger?.dataRegion?.edits ?? []);
+    expect(edits.length).toBeGreaterThan(0);
+    const dir = mkdtempSync(join(tmpdir(), 'ol-region-'));
+    try {
+      const original = await verify(args([join(ROOT, file)], defines), quiet);
+      const f = join(dir, file.split('/').pop()!);
+      writeFileSync(f, applyLineEdits(text, edits));
+      const r = await verify(args([f], defines), quiet);
+      const why = formatVerify(r, (p) => p);
+      expect(r.sameOutput, why).toBe(true);
+      expect(r.separate.stdout, why).toBe(original.shared?.stdout);
+      expect(r.comparison.differences, why).toBe(0);
+      // Nothing but updates (and reduction scalars) moves inside the time loop any more.
+      const before = original.comparison.timeLoops[0].measured!;
+      const after = r.comparison.timeLoops[0].measured!;
+      expect(after.toDevice + after.toHost).toBeLessThan(before.toDevice + before.toHost);
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }

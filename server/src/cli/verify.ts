@@ -19,6 +19,7 @@ import { createInterface } from 'node:readline';
 import { analyzeSource, buildModel, type FileAnalysis } from '../core/analyze';
 import { compareRun, type Comparison, type ConstructComparison } from '../core/verify/compare';
 import { MapLogReader, type MapLog } from '../core/verify/mapLog';
+import { compareOutputs } from '../core/verify/outputs';
 import { loadGrammars } from '../grammars';
 import type { VerifyArgs } from './args';
 import { InputError, readHeader, readSource, type SourceFile } from './files';
@@ -49,6 +50,8 @@ export interface VerifyReport {
   /** Whether the two builds printed the same (null when one did not finish). */
   sameOutput: boolean | null;
   firstDifference?: { line: number; separate: string; shared: string };
+  /** Output lines not compared because they are timings (1-based). */
+  ignoredLines: number[];
   comparison: Comparison;
   notes: string[];
 }
@@ -199,19 +202,24 @@ async function verifyIn(
 
   let sameOutput: boolean | null = null;
   let firstDifference: VerifyReport['firstDifference'];
+  let ignoredLines: number[] = [];
   if (shared && finished(separate) && finished(shared)) {
-    sameOutput = separate.stdout === shared.stdout && separate.status === shared.status;
-    if (!sameOutput) {
-      const a = separate.stdout.split('\n'), b = shared.stdout.split('\n');
-      const k = a.findIndex((l, i) => l !== b[i]);
-      const at = k < 0 ? Math.min(a.length, b.length) : k;
-      firstDifference = { line: at + 1, separate: a[at] ?? '(no line)', shared: b[at] ?? '(no line)' };
+    let cmp = compareOutputs(separate.stdout, shared.stdout);
+    if (!cmp.same) {
+      // Run the shared-memory program once more: lines that change between two runs of the same
+      // build are timings, not results.
+      const again = await runProgram(sep, args.runArgs, envWith(tc.pathPrefix, { OMP_TARGET_OFFLOAD: 'DISABLED' }), timeoutMs);
+      if (finished(again)) cmp = compareOutputs(separate.stdout, shared.stdout, again.stdout);
     }
+    sameOutput = cmp.same && separate.status === shared.status;
+    ignoredLines = cmp.ignored;
+    firstDifference = cmp.firstDifference;
+    if (!firstDifference && separate.status !== shared.status) firstDifference = { line: 0, separate: `exit status ${separate.status}`, shared: `exit status ${shared.status}` };
   }
   const comparison = compareRun(analyses, log.constructs);
   return {
     files: built.map((b) => ({ path: b.path, translated: b.translated, notes: b.notes })).map((f, k) => ({ ...f, path: sources[k].path })),
-    compiler: cc, runtime: RUNTIME_READ, separate: { ...separate, log }, shared, sameOutput, firstDifference, comparison, notes,
+    compiler: cc, runtime: RUNTIME_READ, separate: { ...separate, log }, shared, sameOutput, firstDifference, ignoredLines, comparison, notes,
   };
 }
 
@@ -253,10 +261,11 @@ export function formatVerify(r: VerifyReport, shown: (p: string) => string): str
       for (const l of r.separate.log.lastEntries.slice(-8)) out.push(`    ${l}`);
     }
   }
-  if (r.sameOutput === true) out.push('  results: both builds print the same output');
+  const skipped = r.ignoredLines.length > 0 ? ` (${r.ignoredLines.length} line${r.ignoredLines.length === 1 ? '' : 's'} of timings not compared: ${r.ignoredLines.slice(0, 6).join(', ')}${r.ignoredLines.length > 6 ? ', …' : ''})` : '';
+  if (r.sameOutput === true) out.push(`  results: both runs print the same output${skipped}`);
   else if (r.sameOutput === false) {
     out.push('  results DIFFER between separate and shared memory: the program depends on data that is stale on one side (see the stale-* findings of `check`)');
-    if (r.firstDifference) out.push(`    first different line ${r.firstDifference.line}: separate \`${r.firstDifference.separate}\`, shared \`${r.firstDifference.shared}\``);
+    if (r.firstDifference) out.push(`    first different line ${r.firstDifference.line}: separate \`${r.firstDifference.separate}\`, shared \`${r.firstDifference.shared}\`${skipped}`);
   }
   const rows = r.comparison.constructs.filter((c) => c.executions > 0 || c.predicted);
   if (rows.length > 0) {
@@ -306,7 +315,7 @@ export function verifyJson(r: VerifyReport): unknown {
   return {
     files: r.files, compiler: r.compiler, runtime: r.runtime, notes: r.notes,
     separate: { ...run(r.separate), runtimeErrors: r.separate.log.errors, lastEntries: r.separate.log.lastEntries },
-    shared: run(r.shared), sameOutput: r.sameOutput, firstDifference: r.firstDifference ?? null,
+    shared: run(r.shared), sameOutput: r.sameOutput, firstDifference: r.firstDifference ?? null, ignoredLines: r.ignoredLines,
     constructs: r.comparison.constructs, timeLoops: r.comparison.timeLoops, differences: r.comparison.differences,
   };
 }
