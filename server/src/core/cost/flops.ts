@@ -180,11 +180,8 @@ export function integerPowerMultiplications(n: number): number {
  */
 function wholeExponent(e: VExpr, scope: Scope): number | undefined {
   switch (e.kind) {
-    case 'num': {
-      if (e.isFloat) return undefined;
-      const v = integerLiteral(e.text);
-      return v === undefined ? undefined : v;
-    }
+    case 'num':
+      return e.isFloat ? undefined : integerLiteral(e.text);
     case 'unary': {
       if (e.op !== '-' && e.op !== '+') return undefined;
       const v = wholeExponent(e.operand, scope);
