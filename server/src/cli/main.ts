@@ -19,13 +19,14 @@ import { formatFile } from './text';
 import { planningHtml } from '../planning/html';
 import { startServer } from '../lsp';
 import { formatVerify, verify, verifyJson } from './verify';
-// TRANSLATE-WIRING import { runTranslate } from './translate';
+import { runTranslate } from './translate';
+import { translateDirectives } from '../core/translate';
 
 type Out = (s: string) => void;
 
 export async function run(argv: string[], out: Out, err: Out): Promise<number> {
   try {
-    // TRANSLATE-WIRING if (argv[0] === 'translate') return await runTranslate(argv.slice(1), { stdout: out, stderr: err });
+    if (argv[0] === 'translate') return await runTranslate(argv.slice(1), { stdout: out, stderr: err });
     const args = parseCli(argv);
     switch (args.command) {
       case 'help':
@@ -46,7 +47,7 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
         return 0;
       }
       case 'verify': {
-        const r = await verify(args, (line) => err(`offload-ledger: ${line}`));
+        const r = await verify(args, (line) => err(`offload-ledger: ${line}`), (text, language, to) => translateDirectives(text, language, to));
         out(args.format === 'json' ? JSON.stringify(verifyJson(r), null, 2) : formatVerify(r, (p) => relative(process.cwd(), p).split(sep).join('/')));
         // 1 when the run failed, the builds disagree or a construct moved other bytes than predicted.
         const failed = r.separate.timedOut || r.separate.signal !== null || r.separate.status !== 0;

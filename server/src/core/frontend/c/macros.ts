@@ -4,8 +4,9 @@
  * (`#define IDX(i,j) ((j)*NX+(i))`) are expanded inside expressions so that subscripts become
  * affine forms over loop variables.
  */
+import { subscriptSymbolic } from './expressionsClamps';
 import type { ArrayAccess, VExpr } from '../../model/program';
-import { printValue, toSymbolic } from '../../model/values';
+import { printValue } from '../../model/values';
 import type { Range } from '../../types';
 
 export interface FunctionMacro {
@@ -72,7 +73,7 @@ export function instantiate(template: VExpr, params: string[], args: VExpr[], at
 }
 
 export function rebuildAccess(a: ArrayAccess, values: VExpr[], at: Range): ArrayAccess {
-  return { ...a, subscriptValues: values, subscripts: values.map((v) => toSymbolic(v)), subscriptText: values.map(printValue), range: at };
+  return { ...a, subscriptValues: values, subscripts: values.map((v) => subscriptSymbolic(v)), subscriptText: values.map(printValue), range: at };
 }
 
 /** The array an argument names: a variable (`u`), a member (`f.u`, `p->u`), or a cast of one. */
