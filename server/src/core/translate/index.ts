@@ -153,7 +153,7 @@ export function translateDirectives(text: string, language: Language, to: Target
     } else if (from === 'acc') {
       t = accToOmp(p.construct, p.constructArgs, p.clauses, ctx);
     } else {
-      if (ctx.ompEnclosing.length === 0 && !isOffloadOmp(p.construct) && !(p.construct === 'atomic' && ctx.markers.includes('in declare target')) && !(p.construct === 'taskwait' && hasNowaitTargets(parsed))) continue;
+      if (ctx.ompEnclosing.length === 0 && !isOffloadOmp(p.construct) && !(p.construct === 'atomic' && ctx.markers.includes('in declare target')) && !(p.construct === 'taskwait' && (hasNowaitTargets(parsed) || !hasHostTasks(parsed)))) continue;
       t = ompToAcc(p.construct, p.constructArgs, p.clauses, ctx);
     }
     if (t.construct === '' && !t.leftOut && !t.dropped) continue;
@@ -266,6 +266,11 @@ function keepOrder(t: Translation, source: Item[]): void {
   t.clauses = t.clauses.map((c, i) => ({ c, i })).sort((x, y) => rank(x.c) - rank(y.c) || x.i - y.i).map((x) => x.c);
 }
 
+/** Host tasks make a taskwait a host synchronisation, which acc wait is not. */
+function hasHostTasks(parsed: Parsed[]): boolean {
+  return parsed.some((p) => p.d.model === 'omp' && /^(parallel )?(task|taskloop|taskgroup|masked taskloop)\b/.test(p.construct));
+}
+
 function hasNowaitTargets(parsed: Parsed[]): boolean {
   return parsed.some((p) => p.d.model === 'omp' && p.construct.startsWith('target') && p.clauses.some((c) => c.name === 'nowait'));
 }
@@ -374,7 +379,7 @@ function emit(d: Directive, t: Translation, model: Model, fixed: boolean): strin
   }
   wrapped.forEach((l, i) => {
     const last = i === wrapped.length - 1;
-    out.push(`${l.lead}${l.words.join(' ')}${last ? '' : ' &'}${l.tail ? ' ' + l.tail.trim() : ''}`);
+    out.push(`${l.lead}${l.words.join(' ')}${last || fixed ? '' : ' &'}${l.tail ? ' ' + l.tail.trim() : ''}`);
   });
   return out;
 }
@@ -448,7 +453,10 @@ function rewriteGuardsAndApi(lines: string[], language: Language, from: Model, t
       plan(i).replace = [s];
       changed++;
     } else if (new RegExp(`^\\s*#\\s*include\\s*[<"]${fromHeader.replace('.', '\\.')}[>"]`).test(s)) {
-      if (remaining || (from === 'omp' && /\bomp_\w+\s*\(/.test(lines.join('\n').replace(/#\s*include.*$/gm, '')))) {
+      const after = lines.map((_, j) => current(j)).join('\n');
+      if (remaining || (from === 'omp' && /\bomp_\w+\s*\(/.test(after.replace(/#\s*include.*$/gm, '')))) {
+        // The old header stays for the calls that remain; the new one only when new calls need it.
+        if (!new RegExp(`\\b${to}_\\w+\\s*\\(`).test(after)) return;
         plan(i).after.push(s.replace(fromHeader, toHeader));
       } else plan(i).replace = [s.replace(fromHeader, toHeader)];
       changed++;

@@ -49,15 +49,12 @@ function data(out: Translation, c: Item, clause: string, list: string): void {
 /** Map and the clauses shared by target constructs. */
 function targetClauses(clauses: Item[], out: Translation, ctx: Context, kind: 'compute' | 'data' | 'enter' | 'exit'): void {
   const present = new Set(markedList(ctx.markers, PRESENT_MARK).map((s) => s.replace(/\s+/g, '')));
-  const reductionVars = new Set(clauses.filter((c) => c.name === 'reduction').flatMap((c) => splitList(splitModifier(c.args ?? '').list).map(baseName)));
-  const hasDelete = clauses.some((c) => c.name === 'map' && parseMap(c.args ?? '').type === 'delete');
   for (const c of clauses) {
     switch (c.name) {
       case 'map': {
         const m = parseMap(c.args ?? '');
-        let items = splitList(m.list);
-        // A reduction variable on a combined construct is copied by the reduction itself (OpenACC §2.5.15).
-        if (kind === 'compute') items = items.filter((x) => !reductionVars.has(baseName(x)));
+        // A reduction variable may also be in copy: gcc accepts it, and it keeps the round trip exact.
+        const items = splitList(m.list);
         if (items.length === 0) continue;
         const extra = m.modifiers.filter((w) => w !== 'close' && w !== 'present');
         if (extra.length > 0) out.notes.push(`map modifier ${extra.join(', ')} on ${items.join(', ')} is left out${extra.includes('always') ? ': OpenACC copies only data that is not present; add an update directive if the copy is needed' : ''}`);
@@ -118,8 +115,10 @@ function loopClauses(clauses: Item[], out: Translation, opts: { teams: boolean }
         const { modifier, list } = splitModifier(c.args ?? '');
         const parts = (modifier ?? '').split(',').map((s) => s.trim());
         const op = parts[parts.length - 1];
-        if (parts.length > 1) out.notes.push(`reduction modifier ${parts.slice(0, -1).join(', ')} is left out`);
-        out.clauses.push({ text: `reduction(${op}: ${list})`, seg: c.seg, src: c });
+        if (parts.length > 1) {
+          out.notes.push(`reduction modifier ${parts.slice(0, -1).join(', ')} is left out`);
+          out.clauses.push({ text: `reduction(${op}: ${list})`, seg: c.seg, src: c });
+        } else out.clauses.push({ text: `reduction(${(c.args ?? '').trim()})`, seg: c.seg, src: c });
         continue;
       }
       case 'num_teams':
