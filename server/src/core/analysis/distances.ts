@@ -143,7 +143,7 @@ function numericSolutions(p: Numeric, carriers: ReadonlySet<number>): Distance[]
  * decreasing |c|, each level limited by the bounds the remaining loops can still make up
  * (Banerjee) and by the gcd of their coefficients.
  */
-function feasible(vars: { c: number; u: number }[], t: number, budget: { left: number }): number[] | undefined {
+export function feasible(vars: { c: number; u: number }[], t: number, budget: { left: number }): number[] | undefined {
   if (vars.length === 0) return t === 0 ? [] : undefined;
   const order = vars.map((v, q) => ({ ...v, q })).sort((a, b) => Math.abs(b.c) - Math.abs(a.c));
   const reach: number[] = [];
