@@ -228,7 +228,7 @@ describe('ConfigStore without workspace/configuration', () => {
     store.initial = { debounceMs: 50, baseline: 'rack' };
     const s = await store.forDocument('file:///a.c');
     expect(s.debounceMs).toBe(50);
-    expect(s.baseline).toBe('node');
+    expect(s.baseline).toBe('auto');
     expect(warnings).toHaveLength(1);
   });
 });

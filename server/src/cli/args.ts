@@ -11,7 +11,8 @@ export interface CommonArgs {
   includeDirs: string[];
   directives?: 'openacc' | 'openmp' | 'both';
   profile?: string;
-  baseline: 'node' | 'core';
+  /** Undefined: each file's own (one core for serial code, the node for parallel code). */
+  baseline?: 'node' | 'core';
   machines?: string;
   /** `--time-loop VAR`: loop variables (or step counters) that name time loops. */
   timeLoopVariables: string[];
@@ -84,7 +85,8 @@ options:
                            read with (default: the nearest compile_commands.json above each file, or in a
                            build/ folder beside it); with no files given, the files it lists are checked
   --profile NAME           machine profile for the estimates (built-in presets or offload-ledger.machines.json)
-  --baseline node|core     host baseline of the speedups: the whole node (default) or one core
+  --baseline node|core     host baseline of the speedups: the whole node or one core (default: one core for
+                           serial code, the whole node for code that already runs in parallel or offloads)
   --machines FILE          machines file (default ./offload-ledger.machines.json when present)
   --runs N                 plan: number of independent runs
   --pool host=H,device=D   plan: a mixed pool of H host nodes and D device nodes
@@ -162,8 +164,8 @@ export function parseCli(argv: string[]): CliArgs {
     if (!m) throw new UsageError(`--bind expects NAME=INTEGER, got \`${b}\``);
     bindings.set(m[1], Number(m[2]));
   }
-  const baseline = values.baseline ?? 'node';
-  if (baseline !== 'node' && baseline !== 'core') throw new UsageError(`unknown baseline \`${baseline}\`; use node or core`);
+  const baseline = values.baseline;
+  if (baseline !== undefined && baseline !== 'node' && baseline !== 'core') throw new UsageError(`unknown baseline \`${baseline}\`; use node or core`);
   const defines = new Map<string, string>();
   for (const d of values.define ?? []) {
     const m = /^\s*([A-Za-z_]\w*)\s*(?:=(.*))?$/s.exec(d);

@@ -89,7 +89,7 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   }
   if (args.format === 'json') out(JSON.stringify(report(analyses), null, 2));
   else if (args.format === 'sarif') out(JSON.stringify(sarifLog(analyses, (p) => relative(process.cwd(), p).split(sep).join('/')), null, 2));
-  else if (args.format === 'html') out(await planningHtml(analyses, profile.name, args.baseline));
+  else if (args.format === 'html') out(await planningHtml(analyses, profile.name, args.baseline ?? [...new Set(analyses.map((a) => a.baseline))].join('/')));
   else out(analyses.map(formatFile).join('\n\n'));
   return analyses.some((a) => a.findings.some((f) => f.severity === 'error')) ? 1 : 0;
 }

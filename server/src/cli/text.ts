@@ -54,7 +54,7 @@ export function formatFile(a: FileAnalysis): string {
   for (const [x, at] of assumed) lines.push(`  assumed (line${at.length === 1 ? '' : 's'} ${at.join(', ')}): ${x}`);
   for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
   for (const r of a.notTimeLoops) lines.push(`  not a time loop: line ${r.loop.keywordRange.start.line + 1} (${r.loop.variable ?? 'while'} in ${r.procedure.name}): ${r.reason}`);
-  if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.nests[0].estimate?.baseline === 'core' ? 'one-core' : 'whole-node'} baseline; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
+  if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.baseline === 'core' ? 'one-core' : 'whole-node'} baseline${a.baselineReason ? ` (${a.baselineReason.split(':')[0]})` : ''}; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
   for (const f of a.findings) {
     lines.push(`  ${a.path}:${f.range.start.line + 1}:${f.range.start.col + 1}: ${f.severity} [${f.code}] ${f.message}`);
   }

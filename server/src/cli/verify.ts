@@ -117,7 +117,11 @@ function runProgram(exe: string, argv: string[], env: NodeJS.ProcessEnv, timeout
 const LANG_OF: Record<string, 'c' | 'cpp' | undefined> = { '.c': 'c', '.cc': 'cpp', '.cpp': 'cpp', '.cxx': 'cpp', '.c++': 'cpp', '.C': 'cpp' };
 
 /** The OpenACC → OpenMP translation verify builds OpenACC programs through (core/translate). */
-export type Translator = (text: string, language: 'c' | 'cpp', to: 'openmp') => { text: string; changed: number; notes: { line: number; message: string }[] };
+export type Translator = (text: string, language: 'c' | 'cpp', to: 'openmp') => {
+  text: string; changed: number; notes: { line: number; message: string }[];
+  /** For each line of `text`, the 0-based original line it came from. */
+  lineOrigin: number[];
+};
 
 export async function verify(args: VerifyArgs, note: (s: string) => void, translate?: Translator): Promise<VerifyReport> {
   if (args.paths.length === 0) throw new InputError('`verify` needs the source files of one program (the file with main and the files it calls)');
@@ -145,25 +149,27 @@ async function verifyIn(
   const settings = { defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives };
   // OpenACC files become OpenMP files in the work folder, under their own names so the
   // runtime's file:line refers to the same name.
-  const built: { path: string; text: string; translated: boolean; notes: string[]; language: 'c' | 'cpp' }[] = [];
+  const built: { path: string; text: string; translated: boolean; notes: string[]; language: 'c' | 'cpp'; lineMap?: (n: number) => number }[] = [];
   for (const s of sources) {
     const language = s.language === 'cpp' ? 'cpp' : (LANG_OF[extname(s.path)] ?? 'c');
     const model = buildModel(s, deps, settings);
     const families = new Set(model.directives.map((d) => d.family));
     let text = s.text;
     let translated = false;
+    let lineMap: ((n: number) => number) | undefined;
     const tNotes: string[] = [];
     if (families.has('openacc')) {
       if (!translate) throw new InputError(`${s.path} uses OpenACC, which clang cannot build; translate it to OpenMP first`);
       const t = translate(s.text, language, 'openmp');
       text = t.text;
       translated = t.changed > 0;
+      lineMap = (n: number): number => (t.lineOrigin[n - 1] ?? n - 1) + 1;
       for (const n of t.notes) tNotes.push(`${basename(s.path)}:${n.line + 1}: ${n.message}`);
       if (translated) notes.push(`${basename(s.path)} uses OpenACC: it was translated to OpenMP (offload-ledger translate --to openmp) and the translation was built and measured`);
     }
     const out = join(work, basename(s.path));
     writeFileSync(out, text);
-    built.push({ path: out, text, translated, notes: tNotes, language });
+    built.push({ path: out, text, translated, notes: tNotes, language, lineMap });
   }
   // The ledger of what is built (the translation keeps every line where it was).
   const files = built.map((b, k) => ({ ...sources[k], path: b.path, text: b.text }));
@@ -217,6 +223,15 @@ async function verifyIn(
     if (!firstDifference && separate.status !== shared.status) firstDifference = { line: 0, separate: `exit status ${separate.status}`, shared: `exit status ${shared.status}` };
   }
   const comparison = compareRun(analyses, log.constructs);
+  // Rows name lines of the built (translated) files; the user reads the originals.
+  const mapOf = (file: string): ((n: number) => number) | undefined => built.find((b) => basename(b.path) === basename(file))?.lineMap;
+  for (const c of comparison.constructs) c.line = mapOf(c.file)?.(c.line) ?? c.line;
+  for (const t of comparison.timeLoops) {
+    const m = mapOf(t.file);
+    if (!m) continue;
+    t.line = m(t.line);
+    for (const p of t.periodic) p.line = m(p.line);
+  }
   return {
     files: built.map((b) => ({ path: b.path, translated: b.translated, notes: b.notes })).map((f, k) => ({ ...f, path: sources[k].path })),
     compiler: cc, runtime: RUNTIME_READ, separate: { ...separate, log }, shared, sameOutput, firstDifference, ignoredLines, comparison, notes,

@@ -24,6 +24,7 @@ import { nestEstimate } from './estimate/nest';
 import { type StepWork, isParallelNest, stepEstimate, stepWork } from './estimate/step';
 import type { Baseline, NestEstimate, StepEstimate } from './estimate/types';
 import type { DirectiveFamily, Finding, SourceLanguage } from './types';
+import { portPlans, portable, type TimeLoopPlans } from './port/plans';
 
 export interface AnalyzeInput {
   path: string;
@@ -57,8 +58,15 @@ export interface AnalyzeOptions extends PreprocessSettings {
   bindings?: ReadonlyMap<string, number>;
   /** The machine the estimates are for; default the `pcie4-hbm2e` preset. */
   profile?: MachineProfile;
-  /** Host baseline of the speedups: the whole node (default) or one core (one run per core). */
+  /**
+   * Host baseline of the speedups: the whole node or one core. Default: one core for serial code
+   * (no directive, no `do concurrent`), the whole node when the code already runs in parallel.
+   */
   baseline?: Baseline;
+  /** Write the port plans of time loops that run on the host (default true; the analyses of a port set it false). */
+  plans?: boolean;
+  /** The model a port writes (default: the file's own, else OpenACC). */
+  portFamily?: DirectiveFamily;
   /** Host cache for the layer condition; default the profile's cache per core. */
   cacheBytes?: number;
   /** Device memory for `exceeds-device-memory`; default the profile's. */
@@ -95,6 +103,24 @@ export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps, settings: Pre
   return emptyModel(input.path, input.language);
 }
 
+/**
+ * One core for serial code; the whole node when the code already runs in parallel on the host
+ * (OpenMP `parallel`/`for`/`do`/`loop`/`taskloop` without `target`, Fortran `do concurrent`) or
+ * offloads (a port compares with the node it replaces).
+ */
+export function defaultBaseline(model: ProgramModel): Baseline {
+  if (model.directives.length > 0) return 'node';
+  let concurrent = false;
+  for (const p of model.procedures) {
+    walkStatements(p.body, (s) => {
+      if (s.kind === 'loop' && /^\s*do\s+concurrent\b/i.test(s.header)) concurrent = true;
+      return !concurrent;
+    });
+    if (concurrent) return 'node';
+  }
+  return 'core';
+}
+
 /** A core's share of a server CPU's L2 plus L3 (from memory); used by scripts without a profile. */
 export const DEFAULT_CACHE_BYTES = 2 * 1024 * 1024;
 
@@ -119,6 +145,8 @@ export interface TimeLoopReport {
    * draws the transfers before and after from it.
    */
   withRegion?: WhatIf;
+  /** For a time loop that runs on the host: the port plans (naive, resident, what stays). */
+  plans?: TimeLoopPlans;
 }
 
 /** One time loop of the file analysed again with the suggested data regions applied. */
@@ -146,11 +174,16 @@ export interface FileAnalysis {
   internalErrors: string[];
   /** With `programRun`, for a program that has no time loop: its transfers from `main` to the end. */
   programTransfers?: TransferReport[];
+  /** The host baseline the speedups use, and why when it was chosen from the code. */
+  baseline: Baseline;
+  baselineReason?: string;
+  /** The port of the time loops that run on the host (`plans` per time loop, and the ported text). */
+  port?: { text: string; naiveText: string };
 }
 
 export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
   const profile = options.profile ?? presetProfile(DEFAULT_PROFILE)!;
-  const baseline = options.baseline ?? 'node';
+  let baseline: Baseline = options.baseline ?? 'node';
   const result: FileAnalysis = {
     path: input.path,
     profile,
@@ -163,10 +196,16 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     notTimeLoops: [],
     findings: [],
     internalErrors: [],
+    baseline,
   };
   try {
     const built = input.model ?? buildModel(input, deps, options);
     result.model = built;
+    if (!options.baseline) {
+      baseline = defaultBaseline(built);
+      result.baseline = baseline;
+      result.baselineReason = baseline === 'core' ? 'serial code: one core' : 'code that already runs in parallel: the whole node';
+    }
     // The file as its workspace resolves it (a Fortran `use` of another file's module): the
     // views read bindings and procedures from this model, so they must see the same names. A
     // re-read file gets its index locals substituted like every model buildModel makes.
@@ -226,6 +265,18 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate, ...(fixed[k] ? { withRegion: fixed[k]! } : {}) });
     }
     result.findings.push(...unknownExtentFindings(result));
+    if (options.plans !== false && portable(result).length > 0) {
+      const again = (text: string, what: boolean): FileAnalysis =>
+        analyzeSource({ ...input, text, model: undefined }, deps, { ...options, baseline, plans: false, whatIf: what, programRun: false });
+      const port = portPlans(result, input.text, again, profile, baseline, { family: options.portFamily });
+      if (port) {
+        result.port = { text: port.text, naiveText: port.naiveText };
+        for (const tl of result.timeLoops) {
+          const p = port.plans.get(tl);
+          if (p) tl.plans = p;
+        }
+      }
+    }
   } catch (err) {
     result.internalErrors.push(err instanceof Error ? `${err.message}\n${err.stack ?? ''}` : String(err));
   }

@@ -47,9 +47,9 @@ export const SETTINGS = {
   },
   baseline: {
     type: 'string',
-    enum: ['node', 'core'],
-    enumDescriptions: ['Compare one device with the whole host node (all cores).', 'Compare one device with one host core (one run per core, as in parameter sweeps).'],
-    default: 'node',
+    enum: ['auto', 'node', 'core'],
+    enumDescriptions: ['One host core for serial code, the whole node for code that already runs in parallel or offloads.', 'Compare one device with the whole host node (all cores).', 'Compare one device with one host core (one run per core, as in parameter sweeps).'],
+    default: 'auto',
     scope: 'window',
     usedBy: 'server',
     markdownDescription: 'What the speedup is measured against: the whole host node or one host core.',

@@ -10,7 +10,7 @@ import type { SeveritySetting } from './codes';
 
 export interface Settings {
   profile: string;
-  baseline: Baseline;
+  baseline: Baseline | 'auto';
   sizeBindings: Record<string, number>;
   preprocessorFlags: string;
   compileCommands: string;

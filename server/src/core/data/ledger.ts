@@ -5,6 +5,7 @@
  */
 import { relativeToFile } from '../paths';
 import { entryRootOf, isMain } from './entry';
+import type { ArrayInfo } from './arrays';
 import * as S from '../symbolic';
 import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
 import type { TimeLoop } from '../analysis/nests';
@@ -54,6 +55,8 @@ export interface TimeLoopLedger {
    * entry run from the program's root), each once: what `verify` compares whole-run totals with.
    */
   outside: TransferReport[];
+  /** What the interpreter knows of an array by its storage key (extent, shape), for edits that name it. */
+  infoOf: (key: string) => ArrayInfo | undefined;
 }
 
 export interface DataLedgerOptions {
@@ -109,6 +112,7 @@ export function dataLedger(
         once: { toDevice: once('toDevice'), toHost: once('toHost') }, transfers, dataRegion, residentBytes: run.residentPeak, run,
         transfersPerStep: run.transfers.reduce((n, t) => n + 1 / t.everySteps, 0),
         outside: interp.outside.map(asReport),
+        infoOf: (k) => interp.infoOf(k),
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;

@@ -25,7 +25,7 @@ function listOf(args: string | undefined): string {
 }
 
 /** Translates the clauses shared by compute and data constructs; the rest go to `other`. */
-function dataClauses(clauses: Item[], out: Translation, opts: { compute: boolean; teams: boolean; fortran: boolean }): void {
+function dataClauses(clauses: Item[], out: Translation, opts: { compute: boolean; teams: boolean; fortran: boolean; pointers?: ReadonlySet<string> }): void {
   const present: string[] = [];
   for (const c of clauses) {
     const map = DATA_TO_MAP[c.name];
@@ -40,8 +40,15 @@ function dataClauses(clauses: Item[], out: Translation, opts: { compute: boolean
         if (c.name === 'present') {
           // OpenMP 5.1 added map(present, alloc: x) (§5.8.3 map-type-modifier present), but gcc 12
           // and clang 14 reject it, so present data is mapped with alloc: no transfer when the
-          // data is present, as the OpenACC program asserts.
-          out.clauses.push({ text: `map(alloc: ${c.args.trim()})`, seg: c.seg, src: c });
+          // data is present, as the OpenACC program asserts. A bare C pointer is left to the
+          // implicit rule instead: map(alloc: p) would map the pointer variable itself, while an
+          // unmapped pointer in a target region becomes a zero-length section that attaches to
+          // the data already present (OpenMP 5.2 §5.8.1).
+          const items = splitTop(c.args);
+          const bare = opts.fortran ? [] : items.filter((x) => /^[A-Za-z_]\w*$/.test(x) && opts.pointers?.has(x));
+          const kept = items.filter((x) => !bare.includes(x));
+          if (kept.length > 0) out.clauses.push({ text: `map(alloc: ${kept.join(', ')})`, seg: c.seg, src: c });
+          if (bare.length > 0) out.notes.push(`present(${bare.join(', ')}): ${bare.length === 1 ? 'a pointer' : 'pointers'} left to OpenMP's implicit zero-length section, which attaches to the present data (OpenMP 5.2 §5.8.1)`);
           present.push(c.args.trim());
         } else {
           out.notes.push(`no_create(${c.args.trim()}) has no OpenMP 5.2 counterpart (left out): the implicit map applies`);
@@ -142,12 +149,12 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
       if (sequential) {
         out.construct = 'target';
         if (construct !== 'serial loop') out.notes.push(`${construct}${has('seq') ? ' seq' : ' without independent'} runs in one device thread: OpenMP loop constructs assert independent iterations (add independent if they are)`);
-        dataClauses(clauses, out, { compute: true, teams: false, fortran });
+        dataClauses(clauses, out, { compute: true, teams: false, fortran, pointers: ctx.pointerNames });
         loopClauses(out.other, out, 'target');
       } else {
         // OpenACC §2.11 combined constructs ↔ OpenMP §17 combined target teams distribute parallel loop.
         out.construct = `target teams distribute parallel ${loopWord}`;
-        dataClauses(clauses, out, { compute: true, teams: true, fortran });
+        dataClauses(clauses, out, { compute: true, teams: true, fortran, pointers: ctx.pointerNames });
         loopClauses(out.other, out, 'teams');
       }
       out.other = [];
@@ -155,14 +162,14 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
     }
     case 'parallel':
       out.construct = 'target teams';
-      dataClauses(clauses, out, { compute: true, teams: true, fortran });
+      dataClauses(clauses, out, { compute: true, teams: true, fortran, pointers: ctx.pointerNames });
       loopClauses(out.other.filter((c) => c.name !== 'collapse'), out, 'teams');
       out.other = [];
       return out;
     case 'kernels':
     case 'serial':
       out.construct = 'target';
-      dataClauses(clauses, out, { compute: true, teams: false, fortran });
+      dataClauses(clauses, out, { compute: true, teams: false, fortran, pointers: ctx.pointerNames });
       loopClauses(out.other, out, 'target');
       out.other = [];
       return out;
@@ -193,11 +200,11 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
     }
     case 'data':
       out.construct = 'target data';
-      dataClauses(clauses, out, { compute: false, teams: false, fortran });
+      dataClauses(clauses, out, { compute: false, teams: false, fortran, pointers: ctx.pointerNames });
       break;
     case 'enter data':
       out.construct = 'target enter data';
-      dataClauses(clauses, out, { compute: false, teams: false, fortran });
+      dataClauses(clauses, out, { compute: false, teams: false, fortran, pointers: ctx.pointerNames });
       break;
     case 'exit data': {
       out.construct = 'target exit data';
@@ -215,7 +222,7 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
       }
       const rest = out.other;
       out.other = [];
-      dataClauses(rest, out, { compute: false, teams: false, fortran });
+      dataClauses(rest, out, { compute: false, teams: false, fortran, pointers: ctx.pointerNames });
       break;
     }
     case 'update': {
@@ -228,7 +235,7 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
         else if (c.name === 'if_present') continue;
         else rest.push(c);
       }
-      dataClauses(rest, out, { compute: false, teams: false, fortran });
+      dataClauses(rest, out, { compute: false, teams: false, fortran, pointers: ctx.pointerNames });
       break;
     }
     case 'host_data': {
@@ -243,7 +250,7 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
       }
       const rest = out.other;
       out.other = [];
-      dataClauses(rest, out, { compute: false, teams: false, fortran });
+      dataClauses(rest, out, { compute: false, teams: false, fortran, pointers: ctx.pointerNames });
       break;
     }
     case 'wait':
@@ -314,5 +321,18 @@ export function accToOmp(construct: string, constructArgs: string | undefined, c
   // Clauses no table above took.
   for (const c of out.other) out.notes.push(`${c.name}${c.args !== undefined ? `(${c.args})` : ''} is not translated (left out)`);
   out.other = [];
+  return out;
+}
+
+/** A clause list split at top-level commas: `a[0:n], b` → [`a[0:n]`, `b`]. */
+function splitTop(list: string): string[] {
+  const out: string[] = [];
+  let depth = 0, cur = '';
+  for (const ch of list) {
+    if (ch === '(' || ch === '[') depth++;
+    if (ch === ')' || ch === ']') depth--;
+    if (ch === ',' && depth === 0) { out.push(cur.trim()); cur = ''; } else cur += ch;
+  }
+  if (cur.trim()) out.push(cur.trim());
   return out;
 }

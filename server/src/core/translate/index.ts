@@ -25,6 +25,8 @@ export interface TranslateResult {
   notes: TranslateNote[];
   /** Number of directives and other lines (guards, includes, API calls) that were rewritten. */
   changed: number;
+  /** For each line of `text`, the 0-based input line it came from (added note lines: the line they annotate). */
+  lineOrigin: number[];
 }
 
 interface Parsed { d: Directive; construct: string; constructArgs?: string; clauses: Item[]; regionEnd: number }
@@ -474,7 +476,14 @@ function assemble(lines: string[], eol: string, plans: Map<number, LinePlan>, no
     if (!p) return [lines[i]];
     return [...p.before, ...(p.replace === undefined ? [lines[i]] : p.replace ?? []), ...p.after];
   };
-  for (let i = 0; i < lines.length; i++) out.push(...newLinesOf(i));
+  // Where each line of the translation came from (0-based original line), for tools that read
+  // positions in the translated text (verify's runtime log) and show them in the original.
+  const origin: number[] = [];
+  for (let i = 0; i < lines.length; i++) {
+    const added = newLinesOf(i);
+    out.push(...added);
+    for (let j = 0; j < added.length; j++) origin.push(i);
+  }
   // One edit per run of consecutive planned lines.
   for (let k = 0; k < keys.length;) {
     const start = keys[k];
@@ -496,5 +505,5 @@ function assemble(lines: string[], eol: string, plans: Map<number, LinePlan>, no
     }
   }
   notes.sort((a, b) => a.line - b.line);
-  return { text: out.join(eol), edits, notes, changed };
+  return { text: out.join(eol), edits, notes, changed, lineOrigin: origin };
 }

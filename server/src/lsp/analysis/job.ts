@@ -24,7 +24,7 @@ export interface AnalysisJob {
   /** The preprocessor settings (plain data: defines as pairs, include folders absolute). */
   preprocess?: { defines: [string, string][]; undefines: string[]; includeDirs: string[]; directives?: 'openacc' | 'openmp' | 'both' };
   profile?: MachineProfile;
-  baseline: Baseline;
+  baseline: Baseline | 'auto';
   /** Loop variables the user names as time-loop variables (setting `timeLoopVariables`). */
   timeLoopVariables?: string[];
   view: ViewOptions;
@@ -55,7 +55,7 @@ function workspaceOf(job: AnalysisJob, deps: AnalyzeDeps): ProgramModel[] | unde
 export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
   const pp = job.preprocess;
   return {
-    bindings: new Map(job.bindings), baseline: job.baseline, ...(job.profile ? { profile: job.profile } : {}),
+    bindings: new Map(job.bindings), ...(job.baseline === 'auto' ? {} : { baseline: job.baseline }), ...(job.profile ? { profile: job.profile } : {}),
     ...(job.timeLoopVariables && job.timeLoopVariables.length > 0 ? { timeLoopVariables: job.timeLoopVariables } : {}),
     ...(pp ? { defines: new Map(pp.defines), undefines: pp.undefines, includeDirs: pp.includeDirs, directives: pp.directives } : {}),
   };
