@@ -6,9 +6,17 @@
  * Kennedy, *Optimizing Compilers for Modern Architectures*, 2001 (AK). The cases are the
  * standard ones of both books; the code is our own.
  */
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import * as S from '../server/src/core/symbolic';
 import { proveParallel, type ParallelProof } from '../server/src/core/analysis/parallelProof';
-import { analyzeText } from './helpers';
+import { collapseCount, isLoopDirective } from '../server/src/core/model/directives';
+import type { LoopStmt } from '../server/src/core/model/program';
+import { rangeWithin } from '../server/src/core/ranges';
+import { ROOT, analyzeText } from './helpers';
 
 /** The proof of the nest whose root loop starts on `line` (1-based). */
 async function proofAt(text: string, line: number, path = 'test.c'): Promise<ParallelProof> {
@@ -217,4 +225,112 @@ end subroutine
     expect((await proofAt(text, 20, 't.f90')).reasons.join(' ')).toContain('I/O');
     expect((await proofAt(text, 23, 't.f90')).reasons.join(' ')).toContain('exit');
   });
+});
+
+// ---- textbook cases, confirmed at run time ------------------------------------------------------
+
+const has = (cmd: string): boolean => {
+  const r = spawnSync(cmd, ['--version'], { encoding: 'utf8' });
+  return !r.error && r.status === 0;
+};
+const gcc = has('gcc');
+const gfortran = has('gfortran');
+if (!gcc) console.log('skipped: gcc not found, so the C textbook cases are not run');
+if (!gfortran) console.log('skipped: gfortran not found, so the Fortran textbook cases are not run');
+
+/**
+ * The verdict each case must get, from the books: a dependence the tool reports (W ch. 5;
+ * AK §2.2, §3.3) or none.
+ */
+const DEPENDENT = new Set(['recurrence', 'anti', 'output_all', 'output_mod', 'gauss_seidel']);
+const INDEPENDENT = new Set(['gcd_pair', 'beyond_bounds', 'jacobi']);
+
+/**
+ * The fixture with the headers of every offloaded loop (the directive's loop and the loops its
+ * collapse covers) rewritten to run forwards when REV is 0 and in reversed order when it is 1.
+ * The rest of the program, directives included, is left as written; the host build ignores them.
+ */
+function reversible(text: string, loops: LoopStmt[], fortran: boolean): string {
+  const lines = text.split('\n');
+  for (const l of loops) {
+    const at = l.keywordRange.start.line;
+    const lo = S.toString(l.lower!);
+    const hi = S.toString(l.upper!);
+    const v = l.variable!;
+    expect(S.constValue(l.step!), `step of the loop at line ${at + 1}`).toBe(1);
+    if (fortran) {
+      lines[at] = lines[at].replace(/do\s+\w+\s*=.*$/i, `do ${v} = merge(${hi}, ${lo}, REV == 1), merge(${lo}, ${hi}, REV == 1), merge(-1, 1, REV == 1)`);
+    } else {
+      lines[at] = lines[at].replace(/for\s*\(.*\)/, `for (int ${v} = REV ? (${hi}) : (${lo}); REV ? ${v} >= (${lo}) : ${v} <= (${hi}); ${v} += REV ? -1 : 1)`);
+    }
+  }
+  return lines.join('\n');
+}
+
+const tmp = mkdtempSync(join(tmpdir(), 'ol-dep13-'));
+let serial = 0;
+
+/** Builds the host program (no offload flag: the directives are ignored) and returns checksum per case. */
+function run(src: string, fortran: boolean, rev: number): Map<string, string> {
+  const name = `p${serial++}`;
+  const file = join(tmp, `${name}.${fortran ? 'f90' : 'c'}`);
+  writeFileSync(file, src);
+  const exe = join(tmp, name);
+  const args = fortran
+    ? ['-cpp', `-DREV=${rev}`, '-O0', file, '-o', exe, '-J', tmp]
+    : [`-DREV=${rev}`, '-O0', '-std=c11', '-Wno-unknown-pragmas', file, '-o', exe];
+  const c = spawnSync(fortran ? 'gfortran' : 'gcc', args, { cwd: tmp, encoding: 'utf8' });
+  expect(c.stderr).toBe('');
+  expect(c.status).toBe(0);
+  const out = spawnSync(exe, [], { encoding: 'utf8', timeout: 60_000 });
+  expect(out.status).toBe(0);
+  return new Map(out.stdout.trim().split('\n').map((l) => l.trim().split(/\s+/) as [string, string]));
+}
+
+describe('textbook dependence cases: each reported dependence changes the result when the loop runs reversed, each loop called free does not', () => {
+  const files = ['textbook_acc.c', 'textbook_omp.c', 'textbook_acc.f90', 'textbook_omp.f90'];
+  for (const file of files) {
+    const fortran = file.endsWith('.f90');
+    it.skipIf(fortran ? !gfortran : !gcc)(file, async () => {
+      const path = join(ROOT, 'tests', 'fixtures', 'dependences', file);
+      const text = readFileSync(path, 'utf8');
+      const a = await analyzeText(text, path);
+      expect(a.internalErrors).toEqual([]);
+      const offloaded = a.nests.map((r) => r.nest).filter((n) => n.offload);
+      const loops: LoopStmt[] = [];
+      for (const n of offloaded) {
+        const d = n.root.directives.find(isLoopDirective) ?? n.offload!;
+        let l: LoopStmt | undefined = n.root;
+        for (let k = 0; k < collapseCount(d) && l; k++) {
+          loops.push(l);
+          l = l.body.find((s): s is LoopStmt => s.kind === 'loop');
+        }
+      }
+      const src = reversible(text, loops, fortran);
+      const forwards = run(src, fortran, 0);
+      const reversed = run(src, fortran, 1);
+      // The original program prints what the forward build prints (the rewrite changes no result).
+      expect(run(text.replace(/^/, ''), fortran, 0)).toEqual(forwards);
+      const seen: string[] = [];
+      for (const n of offloaded) {
+        const name = n.procedure.name.toLowerCase();
+        seen.push(name);
+        const reported = a.findings.some((f) => f.code === 'loop-carried-dependence' && rangeWithin(f.range, n.root.range));
+        const same = forwards.get(name) === reversed.get(name);
+        expect(forwards.get(name), `${name} printed`).toBeDefined();
+        // A reported dependence is real: the reversed order gives another result.
+        if (reported) expect(same, `${name}: reported, so the reversed run must differ`).toBe(false);
+        // A loop reported free gives identical results both ways.
+        else expect(same, `${name}: no dependence reported, so the reversed run must agree`).toBe(true);
+        // The book's verdict (W ch. 5; AK §2.2, §3.3).
+        expect(reported, name).toBe(DEPENDENT.has(name));
+        if (!reported) expect(INDEPENDENT.has(name), name).toBe(true);
+        // The host proof agrees: a nest it calls parallel runs the same both ways.
+        const proof = proveParallel(n, a.model);
+        expect(proof.parallel, `${name}: proveParallel`).toBe(!reported);
+        if (proof.parallel) expect(same).toBe(true);
+      }
+      expect(seen.length).toBeGreaterThanOrEqual(fortran ? 6 : 8);
+    });
+  }
 });

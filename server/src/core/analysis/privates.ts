@@ -65,7 +65,8 @@ export interface PrivateFindings {
 export function privateFindings(model: ProgramModel, nest: LoopNest): PrivateFindings {
   if (!nest.offload) return { findings: [], scratchArrays: new Set(), privateIn: () => false };
   const ctx = new NestContext(model, nest);
-  const findings = [...ctx.sharedScalars()];
+  const shared = ctx.sharedScalars();
+  const findings = [...shared, ...ctx.carriedScalars(new Set(shared.map((f) => f.array ?? '')))];
   const arrays = ctx.scratchArrays();
   findings.push(...arrays.findings);
   return { findings, scratchArrays: arrays.names, privateIn: (a, l) => ctx.privateIn(a, l) };
@@ -213,6 +214,72 @@ class NestContext {
     return out;
   }
 
+  // ---- a value carried from one iteration to the next through a scalar ---------------------
+
+  /**
+   * Scalars an iteration of a concurrent loop reads before it writes them, where each thread or
+   * gang has a copy of its own (a `private`/`firstprivate` clause, or OpenACC's firstprivate per
+   * gang for a gang-only loop, §2.6.2): the iteration reads what the previous iteration *of the
+   * same copy* left — uninitialised for `private` (OpenACC 3.3 §2.5.13; OpenMP 5.2 §5.4.3), the
+   * value from before the loop for `firstprivate` — so the result depends on how iterations are
+   * split. That is a loop-carried flow dependence through the scalar, which no private clause
+   * repairs: `loop-carried-dependence`. A shared copy is `shared-scalar-write`'s (not both).
+   */
+  carriedScalars(reported: ReadonlySet<string>): Finding[] {
+    const out: Finding[] = [];
+    const done = new Set<string>(reported);
+    this.walk((s, chain) => {
+      if (s.kind !== 'assign' || s.target.kind !== 'var') return;
+      const name = s.target.name;
+      if (done.has(name) || !/^[A-Za-z_]\w*$/.test(name) || this.loopVars.has(name)) return;
+      const decl = this.scope.lookup(name);
+      if (!decl || !isScalar(decl)) return;
+      const loop = this.concurrentLoop(chain.slice(0, -1));
+      if (!loop || this.declaredWithin(name, loop)) return;
+      const g = this.governed.get(loop)!;
+      const directives = [g.directive, ...chain.slice(chain.indexOf(loop)).flatMap((x) => x.directives), ...this.above];
+      const clause = directives.flatMap((d) => clausesNamed(d, ...PRIVATISING)).find((c) => (c.vars ?? []).some((v) => (this.fortran ? v.name.toLowerCase() === name.toLowerCase() : v.name === name)));
+      if (clause?.canonical === 'reduction') return;
+      const acc = accumulation(name, s.op, s.value);
+      // An accumulation without a privatising clause is missing-reduction's.
+      if (acc && !clause) return;
+      const use = usage(loop.body, name, this.fortran);
+      if (!use.exposed) return;
+      const acc3 = g.directive.family === 'openacc';
+      let copies: string;
+      if (clause?.canonical === 'private') {
+        copies = `\`private(${name})\` gives each thread a copy that starts uninitialised (${acc3 ? 'OpenACC 3.3 §2.5.13' : 'OpenMP 5.2 §5.4.3'}) and keeps what the thread's previous iteration left`;
+      } else if (clause) {
+        copies = `\`${clause.name}(${name})\` gives each thread a copy that starts with the value from before the loop and keeps what the thread's previous iteration left`;
+      } else if (acc3) {
+        copies = `\`${name}\` is firstprivate, one copy per gang (OpenACC 3.3 §2.6.2), so each gang's first iteration reads the value from before the loop and the others read what the gang's previous iteration left`;
+      } else {
+        copies = `each SIMD lane keeps its own value of \`${name}\``;
+      }
+      done.add(name);
+      const v = loop.variable ?? '?';
+      const todo = acc
+        ? `If \`${name}\` is a ${acc === '+' ? 'sum' : acc === '*' ? 'product' : acc === 'max' ? 'maximum' : 'minimum'}, use \`reduction(${acc}:${name})\` instead of \`${clause!.name}\`.`
+        : `Compute \`${name}\` from the loop variable within the iteration, or keep the loop sequential.`;
+      out.push({
+        code: 'loop-carried-dependence', severity: 'error', range: s.range, array: name,
+        message: `An iteration of this parallel \`${v}\` loop reads the scalar \`${name}\` before it writes it, so it uses the value the previous iteration left: a loop-carried flow dependence through \`${name}\`. ${copies[0].toUpperCase()}${copies.slice(1)}, so the value read depends on how the iterations are split and differs from the sequential loop. ${todo}`,
+      });
+    });
+    return out;
+  }
+
+  /** The innermost loop of the chain whose iterations a directive runs concurrently (any copy). */
+  private concurrentLoop(chain: Stmt[]): LoopStmt | undefined {
+    for (let k = chain.length - 1; k >= 0; k--) {
+      const s = chain[k];
+      if (s.kind !== 'loop') continue;
+      const g = this.governed.get(s);
+      if (g && this.races(g.directive, false)) return s;
+    }
+    return undefined;
+  }
+
   private sharedScalar(name: string, decl: Declaration, s: Stmt, loop: LoopStmt): Finding {
     const use = usage(loop.body, name, this.fortran);
     // An integer index computed from the loop variables and read only in subscripts (`idx =
@@ -292,7 +359,8 @@ class NestContext {
       const a = s.target.access;
       if (tried.has(a.array)) return;
       const decl = this.scope.lookup(a.array);
-      if (!decl || decl.scope !== 'local' || !decl.isArray || decl.isPointer || decl.container || decl.dims.length === 0) return;
+      // Locals and globals with a fixed shape (a pointer's extent is not known to privatise it).
+      if (!decl || decl.scope === 'param' || !decl.isArray || decl.isPointer || decl.container || decl.dims.length === 0) return;
       if (a.subscripts.some((x) => !x)) return;
       const loops = chain.slice(0, -1).filter((x): x is LoopStmt => x.kind === 'loop');
       // Declared inside the compute construct, an array has one copy per gang in OpenACC, like

@@ -45,6 +45,123 @@ export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf:
     if (parallel.size > 0) out.push(...dependences(model, nest, parallel, bindingsOf(nest), privates));
     out.push(...reductions(model, nest));
     out.push(...privates.findings);
+    out.push(...collapseFindings(model, nest));
+  }
+  return out;
+}
+
+// ---- collapse over a nest that cannot be collapsed ------------------------------------------
+
+/**
+ * `collapse(n)` needs n loops the standard lets it collapse:
+ *  - OpenACC 3.3 §2.9.1: the associated loops must be tightly nested (unless the clause says
+ *    `force:`), and the trip count of every associated loop must be computable and invariant in
+ *    all of them, so no bound may use an outer collapsed loop's variable (a triangular nest).
+ *  - OpenMP 5.2 §4.4.1 (canonical loop nest form; since OpenMP 5.0): there must be n nested
+ *    loops, one loop at each level; intervening code between them is allowed (it runs an
+ *    unspecified number of times: at least once per iteration of the loop around it, at most
+ *    once per collapsed iteration, from memory of OpenMP 5.0 §2.9.2), and an inner bound may be
+ *    non-rectangular only in the form `a1*var-outer + a2` of one outer loop's variable, with a
+ *    step that does not depend on it.
+ * Each breach is a `directive-syntax` error at the collapse clause: the directive does not mean
+ * what it says. OpenMP intervening code is legal, so it is a warning that says what it costs.
+ */
+function collapseFindings(model: ProgramModel, nest: LoopNest): Finding[] {
+  const out: Finding[] = [];
+  walkStatements([nest.root], (s) => {
+    if (s.kind !== 'loop') return;
+    for (const d of s.directives) {
+      if (!isLoopDirective(d)) continue;
+      const clause = clausesNamed(d, 'collapse')[0];
+      const n = collapseCount(d);
+      if (!clause || n < 2) continue;
+      const f = collapseProblem(model, d, clause, s, n);
+      if (f) out.push(f);
+    }
+  });
+  return out;
+}
+
+function collapseProblem(model: ProgramModel, d: Directive, clause: Directive['clauses'][number], root: LoopStmt, n: number): Finding | undefined {
+  const acc = d.family === 'openacc';
+  const force = acc && /^\s*force\s*:/i.test(clause.args ?? clause.value ?? '');
+  const range = d.macroExpanded ? d.range : clause.range;
+  const chain: LoopStmt[] = [root];
+  const where = (l: LoopStmt): string => `line ${l.keywordRange.start.line + 1}`;
+  for (let k = 1; k < n; k++) {
+    const cur = chain[k - 1];
+    const body = cur.body.filter((x) => !(x.kind === 'other' && x.text.trim().replace(/;$/, '') === ''));
+    const loops = body.filter((x): x is LoopStmt => x.kind === 'loop');
+    const nested = directLoopsOf(cur.body);
+    if (nested.length === 0) {
+      return {
+        code: 'directive-syntax', severity: 'error', range,
+        message: `\`collapse(${n})\` asks for ${n} nested loops, but the loop at ${where(cur)} has no loop inside it: only ${k} can be collapsed (${acc ? 'OpenACC 3.3 §2.9.1' : 'OpenMP 5.2 §4.4.1, §4.4.3'}). Use \`collapse(${k})\`${k === 1 ? ' or drop the clause' : ''}.`,
+      };
+    }
+    if (nested.length > 1 || loops.length !== 1) {
+      return {
+        code: 'directive-syntax', severity: 'error', range,
+        message: `\`collapse(${n})\` needs one loop nested in the loop at ${where(cur)}, but it holds ${nested.length > 1 ? `${nested.length} loops one after the other` : 'its loop under a condition or in a block'}: there is no single loop ${k + 1} to collapse (${acc ? 'OpenACC 3.3 §2.9.1: the associated loops must be tightly nested' : 'OpenMP 5.2 §4.4.1: a canonical loop nest has one loop at each level'}). Use \`collapse(${k})\`${k === 1 ? ' or drop the clause' : ''}.`,
+      };
+    }
+    const inner = loops[0];
+    if (body.length > 1 && !force) {
+      const between = body.filter((x) => x !== inner);
+      const first = between[0];
+      const at = `line ${first.range.start.line + 1}`;
+      if (acc) {
+        return {
+          code: 'directive-syntax', severity: 'error', range,
+          message: `\`collapse(${n})\` needs tightly nested loops, but ${between.length === 1 ? 'a statement' : `${between.length} statements`} (${at}) stand${between.length === 1 ? 's' : ''} between the loop at ${where(cur)} and the loop at ${where(inner)} (OpenACC 3.3 §2.9.1). Move ${between.length === 1 ? 'it' : 'them'} into the inner loop, use \`collapse(${k})\`, or \`collapse(force:${n})\` to have the intervening code run inside the innermost loop.`,
+        };
+      }
+      return {
+        code: 'directive-syntax', severity: 'warning', range,
+        message: `\`collapse(${n})\` spans code between the loop at ${where(cur)} and the loop at ${where(inner)} (${at}). OpenMP 5.0 and later allow such intervening code (OpenMP 5.2 §4.4.1), but it runs an unspecified number of times — at least once per iteration of the loop around it, at most once per collapsed iteration — and compilers that implement only OpenMP 4.5 collapse reject the directive (gcc 12 does). Move it into the inner loop or use \`collapse(${k})\`.`,
+      };
+    }
+    // Bounds that use the variable of an outer collapsed loop.
+    const outer = chain.map((l) => l.variable).filter((v): v is string => !!v);
+    const bounds = [inner.lower, inner.upper, inner.step];
+    const uses = (e: S.Expr | undefined): string[] => (e ? S.freeSymbols(e).filter((x) => outer.includes(x)) : []);
+    const used = [...new Set(bounds.flatMap(uses))];
+    if (used.length > 0 || inner.triangular) {
+      const names = used.length > 0 ? used.map((v) => `\`${v}\``).join(' and ') : 'an outer loop variable';
+      if (acc) {
+        return {
+          code: 'directive-syntax', severity: 'error', range,
+          message: `\`collapse(${n})\` collapses the loop at ${where(inner)}, whose bounds depend on ${names} of an outer collapsed loop (a triangular nest): OpenACC 3.3 §2.9.1 needs the trip count of every collapsed loop computable and invariant in all of them. Collapse only the loops above it (\`collapse(${k})\`), or make its bounds rectangular and test the condition inside.`,
+        };
+      }
+      // OpenMP: lb and ub may each be a1*var-outer + a2 of one outer variable; the step may not use one.
+      const affineInOne = (e: S.Expr | undefined): boolean => {
+        if (!e) return true;
+        const u = uses(e);
+        if (u.length === 0) return true;
+        if (u.length > 1) return false;
+        const parts = S.affine(e, [u[0]]);
+        return !!parts && S.freeSymbols(parts.coeffs.get(u[0])!).every((x) => !outer.includes(x));
+      };
+      const bad = uses(inner.step).length > 0 || !affineInOne(inner.lower) || !affineInOne(inner.upper);
+      if (bad) {
+        return {
+          code: 'directive-syntax', severity: 'error', range,
+          message: `\`collapse(${n})\` collapses the loop at ${where(inner)}, whose bounds depend on ${names} in a form OpenMP does not allow: a non-rectangular collapsed loop may have each bound of the form \`a1*var-outer + a2\` of one outer loop variable, and a step that uses none (OpenMP 5.2 §4.4.1). Collapse only the loops above it (\`collapse(${k})\`).`,
+        };
+      }
+    }
+    chain.push(inner);
+  }
+  void model;
+  return undefined;
+}
+
+function directLoopsOf(stmts: readonly Stmt[]): LoopStmt[] {
+  const out: LoopStmt[] = [];
+  for (const s of stmts) {
+    if (s.kind === 'loop') out.push(s);
+    else out.push(...directLoopsOf(childStatements(s)));
   }
   return out;
 }
@@ -96,6 +213,7 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
   const vars = loops.map((l) => l.variable).filter((v): v is string => !!v);
   const outer = new Map([...bindings].filter(([k]) => !vars.includes(k)));
   const refs = new Map<string, Ref[]>();
+  const irregular = new Map<string, Enumerable[]>();
   const visit = (stmts: readonly Stmt[], around: LoopStmt[], guarded: boolean): void => {
     for (const s of stmts) {
       for (const a of accessesOfStatement(s)) {
@@ -109,7 +227,10 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
         // iteration makes that exact reference (the bounded test claims exactness).
         const clamped = a.isRead && !a.isWrite ? unclamp(linear, vars) : undefined;
         const parts = S.affine(clamped ?? linear, vars);
-        if (!parts) continue;
+        if (!parts) {
+          if (!clamped) irregular.set(a.array, [...(irregular.get(a.array) ?? []), { access: a, subs, loops: around, guarded }]);
+          continue;
+        }
         refs.set(a.array, [...(refs.get(a.array) ?? []), { access: a, coeffs: parts.coeffs, rest: parts.rest, loops: around, guarded: guarded || !!clamped }]);
       }
       if (s.kind === 'loop') visit(s.body, [...around, s], guarded || !s.variable);
@@ -120,6 +241,24 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
   visit([nest.root], [], false);
   const out: Finding[] = [];
   const seen = new Set<string>();
+  const governing = governingDirectives(nest);
+  // Subscripts that are not affine (`a[i % 2]`): decided by running the subscripts over every
+  // iteration when the loops are small and fully known.
+  for (const [array, list] of irregular) {
+    const affineRefs = (refs.get(array) ?? []).map((r) => ({ access: r.access, subs: r.access.subscripts.map((x) => S.substitute(x!, outer)), loops: r.loops, guarded: r.guarded }));
+    for (const w of list.filter((r) => r.access.isWrite)) {
+      for (const x of [...list, ...affineRefs]) {
+        if (x !== w && !x.access.isRead && !x.access.isWrite) continue;
+        const found = enumeratedCarrier(w, x, parallel, outer);
+        if (!found || privates.privateIn(array, found.loop) || withinSafelen(governing.get(found.loop), found.distance)) continue;
+        const id = `${array}:${x.access.range.start.line}:${x.access.range.start.col}`;
+        if (seen.has(id)) continue;
+        seen.add(id);
+        const asRef = (r: Enumerable): Ref => ({ access: r.access, coeffs: new Map(), rest: S.num(0), loops: r.loops, guarded: r.guarded });
+        out.push(asserted(message(array, asRef(w), asRef(x), found), governing.get(found.loop), found.loop));
+      }
+    }
+  }
   // Pairs with the same loops, coefficients and difference have the same distances (a stencil's
   // references mostly do): solve each equation once.
   const solved = new Map<string, Distance[]>();
@@ -132,19 +271,148 @@ function dependences(model: ProgramModel, nest: LoopNest, parallel: Set<LoopStmt
         if (seen.has(id)) continue;
         // A private copy per iteration of the carrying loop carries nothing across it.
         const carried = self ? undefined : carrier(w, x, loops, parallel, outer);
-        if (carried && !privates.privateIn(array, carried.loop)) {
+        if (carried && !privates.privateIn(array, carried.loop) && !withinSafelen(governing.get(carried.loop), carried.distance)) {
           seen.add(id);
-          out.push(message(array, w, x, carried));
+          out.push(asserted(message(array, w, x, carried), governing.get(carried.loop), carried.loop));
           continue;
         }
         const bounded = boundedCarrier(w, x, parallel, outer, solved);
-        if (!bounded || privates.privateIn(array, bounded.loop)) continue;
+        if (!bounded || privates.privateIn(array, bounded.loop) || withinSafelen(governing.get(bounded.loop), bounded.distance)) continue;
         seen.add(id);
-        out.push(boundedMessage(array, w, x, bounded));
+        out.push(asserted(boundedMessage(array, w, x, bounded), governing.get(bounded.loop), bounded.loop));
       }
     }
   }
   return out;
+}
+
+/** The loop directive that distributes each loop of the nest: its own, or the one whose collapse covers it. */
+export function governingDirectives(nest: LoopNest): Map<LoopStmt, Directive> {
+  const out = new Map<LoopStmt, Directive>();
+  const visit = (loop: LoopStmt, inherited: Directive | undefined, remaining: number): void => {
+    const d = loop.directives.find(isLoopDirective);
+    let next = inherited;
+    let left = 0;
+    if (d && !d.clauses.some((c) => c.canonical === 'seq')) {
+      next = d;
+      out.set(loop, d);
+      left = collapseCount(d) - 1;
+    } else if (remaining > 0 && inherited) {
+      out.set(loop, inherited);
+      left = remaining - 1;
+    }
+    for (const s of loop.body) walkLoops(s, (l) => visit(l, next, left));
+  };
+  visit(nest.root, undefined, 0);
+  return out;
+}
+
+/**
+ * OpenMP `simd` with `safelen(k)`: iterations k or more apart never run in the same SIMD chunk,
+ * so a dependence at such a distance is respected (OpenMP 5.2 §10.4).
+ */
+function withinSafelen(d: Directive | undefined, distance: number): boolean {
+  if (!d || d.family !== 'openmp') return false;
+  const words = d.construct.split(' ');
+  if (!words.includes('simd') || words.some((w) => ['for', 'do', 'distribute', 'loop', 'taskloop'].includes(w))) return false;
+  const safelen = clausesNamed(d, 'safelen')[0];
+  const k = safelen?.value ? Number.parseInt(safelen.value, 10) : NaN;
+  return Number.isFinite(k) && distance >= k;
+}
+
+/**
+ * Says which assertion a dependence makes false when the user wrote one: OpenACC `independent`
+ * (OpenACC 3.3 §2.9.6: the iterations are data-independent), OpenMP `simd` (OpenMP 5.2 §10.4:
+ * iterations may run in SIMD lanes at once), `order(concurrent)` (§10.3: any order, at once)
+ * and the `loop` construct (§11.7, which implies concurrent order). Section numbers from memory.
+ */
+function asserted(f: Finding, d: Directive | undefined, loop: LoopStmt): Finding {
+  if (!d) return f;
+  const v = loop.variable ?? '?';
+  const has = (n: string): boolean => d.clauses.some((c) => c.canonical === n);
+  const words = d.construct.split(' ');
+  let claim: string | undefined;
+  if (d.family === 'openacc' && has('independent')) {
+    claim = `The \`independent\` clause on \`${d.construct}\` asserts that no iteration of \`${v}\` reads or writes what another writes (OpenACC 3.3 §2.9.6), and the compiler trusts it; this assertion is false here.`;
+  } else if (d.family === 'openmp' && d.clauses.some((c) => c.canonical === 'order' && /concurrent/i.test(c.value ?? c.args ?? ''))) {
+    claim = `\`order(concurrent)\` asserts that the iterations of \`${v}\` may run in any order and at the same time (OpenMP 5.2 §10.3); this assertion is false here.`;
+  } else if (d.family === 'openmp' && words.includes('simd') && !words.some((w) => ['for', 'do', 'distribute', 'loop'].includes(w))) {
+    claim = `\`simd\` asserts that consecutive iterations of \`${v}\` may run at once in SIMD lanes (OpenMP 5.2 §10.4); this assertion is false here.`;
+  } else if (d.family === 'openmp' && words.includes('loop')) {
+    claim = `The \`loop\` construct asserts that the iterations of \`${v}\` may run concurrently (OpenMP 5.2 §11.7); this assertion is false here.`;
+  }
+  return claim ? { ...f, message: `${claim} ${f.message}` } : f;
+}
+
+interface Enumerable {
+  access: ArrayAccess;
+  subs: S.Expr[];
+  loops: LoopStmt[];
+  guarded: boolean;
+}
+
+/** Most iterations the enumeration runs through for one pair. */
+const ENUMERATION_LIMIT = 65_536;
+
+/**
+ * A dependence between a write with a subscript that is not affine and another reference, found
+ * by evaluating both subscripts at every iteration: exact, so it runs only when both references
+ * are in the same loops, not under a condition, and every loop has numeric bounds that use no
+ * other loop's variable. The carrier is the first loop in which the two iterations differ.
+ */
+function enumeratedCarrier(w: Enumerable, x: Enumerable, parallel: Set<LoopStmt>, outer: ReadonlyMap<string, S.Expr>): Carried | undefined {
+  if (w.guarded || x.guarded || w.loops.length === 0 || w.loops.length !== x.loops.length || w.loops.some((l, k) => l !== x.loops[k])) return undefined;
+  if (!w.loops.some((l) => parallel.has(l))) return undefined;
+  const ranges: { v: string; lo: number; step: number; n: number }[] = [];
+  let total = 1;
+  for (const l of w.loops) {
+    if (!l.variable || !l.lower || !l.upper || !l.step || l.triangular) return undefined;
+    const lo = S.evaluate(l.lower, outer);
+    const hi = S.evaluate(l.upper, outer);
+    const st = S.evaluate(l.step, outer);
+    if (lo === undefined || hi === undefined || !st || st <= 0 || !Number.isInteger(lo) || !Number.isInteger(hi)) return undefined;
+    const n = Math.max(0, Math.floor((hi - lo) / st) + 1);
+    total *= n;
+    if (total > ENUMERATION_LIMIT) return undefined;
+    ranges.push({ v: l.variable, lo, step: st, n });
+  }
+  const keyAt = (r: Enumerable, values: Map<string, number>): string | undefined => {
+    const parts: number[] = [];
+    for (const e of r.subs) {
+      const v = S.evaluate(e, values);
+      if (v === undefined || !Number.isFinite(v)) return undefined;
+      parts.push(v);
+    }
+    return parts.join(',');
+  };
+  const iterations: number[][] = [];
+  const idx = ranges.map(() => 0);
+  for (let t = 0; t < total; t++) {
+    iterations.push([...idx]);
+    for (let k = ranges.length - 1; k >= 0; k--) { if (++idx[k] < ranges[k].n) break; idx[k] = 0; }
+  }
+  const valuesOf = (it: number[]): Map<string, number> => new Map(ranges.map((r, k) => [r.v, r.lo + it[k] * r.step]));
+  const writers = new Map<string, number[]>();
+  for (let t = 0; t < iterations.length; t++) {
+    const key = keyAt(w, valuesOf(iterations[t]));
+    if (key === undefined) return undefined;
+    if (!writers.has(key)) writers.set(key, [t]);
+    else if (writers.get(key)!.length < 4) writers.get(key)!.push(t);
+  }
+  for (let t = 0; t < iterations.length; t++) {
+    const key = x === w ? keyAt(w, valuesOf(iterations[t])) : keyAt(x, valuesOf(iterations[t]));
+    if (key === undefined) return undefined;
+    for (const u of writers.get(key) ?? []) {
+      if (u === t) continue;
+      const I = iterations[t];
+      const J = iterations[u];
+      const k = I.findIndex((v, q) => v !== J[q]);
+      if (k < 0 || !parallel.has(w.loops[k])) continue;
+      const kind: Carried['kind'] = !x.access.isRead || x === w ? 'output' : J[k] < I[k] ? 'flow' : 'anti';
+      return { loop: w.loops[k], distance: Math.abs(I[k] - J[k]), kind };
+    }
+  }
+  return undefined;
 }
 
 interface Carried {
@@ -300,7 +568,7 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
     const acc = accumulation(name, s.op, s.value);
     firstUse.set(name, acc ? { name, op: acc, range: s.range } : 'write');
   });
-  const out: Finding[] = [];
+  const out: Finding[] = [...wrongOperators(model, nest, directives)];
   for (const [name, use] of firstUse) {
     if (use === 'write' || reduced.has(name) || loopVars.has(name) || declaredInside(name)) continue;
     const decl = scope.lookup(name);
@@ -321,6 +589,49 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
       fixes: [reductionFix(loopDirective, use.op, name)],
     });
   }
+  return out;
+}
+
+/** The reduction operator a clause names, in the spelling `accumulation` gives (+, *, max, min), or undefined for others. */
+function clauseOperator(op: string | undefined): string | undefined {
+  const o = (op ?? '').trim().toLowerCase();
+  if (o === '+' || o === '-') return '+';
+  if (o === '*' || o === 'max' || o === 'min') return o;
+  return o === '' ? undefined : o;
+}
+
+const OPERATOR_WORDS: Record<string, string> = { '+': 'sum', '*': 'product', max: 'maximum', min: 'minimum' };
+
+/**
+ * A reduction clause whose operator is not the one the loop accumulates with
+ * (`reduction(+:m)` around `m = max(m, x)`): the private copies start at the clause operator's
+ * identity and are combined with it (OpenACC 3.3 §2.5.15; OpenMP 5.2 §5.5.5, §5.5.8), so the
+ * host gets a combination the loop never computes — there is no valid reduction for the update.
+ */
+function wrongOperators(model: ProgramModel, nest: LoopNest, directives: Directive[]): Finding[] {
+  const fortran = model.language === 'fortran';
+  const same = (a: string, b: string): boolean => (fortran ? a.toLowerCase() === b.toLowerCase() : a === b);
+  const clauses = directives.flatMap((d) => clausesNamed(d, 'reduction').map((c) => ({ d, c })));
+  if (clauses.length === 0) return [];
+  const out: Finding[] = [];
+  const done = new Set<string>();
+  walkStatements([nest.root], (s) => {
+    if (s.kind !== 'assign' || s.target.kind !== 'var') return;
+    const name = s.target.name;
+    if (done.has(name)) return;
+    const named = clauses.find((x) => (x.c.vars ?? []).some((v) => same(v.name, name)));
+    if (!named) return;
+    const op = accumulation(name, s.op, s.value);
+    const declared = clauseOperator(named.c.reductionOp);
+    if (!op || !declared || op === declared) return;
+    done.add(name);
+    const update = op === 'max' || op === 'min' ? `${name} = ${op}(${name}, …)` : `${name} ${op}= …`;
+    const written = named.c.reductionOp ?? declared;
+    out.push({
+      code: 'missing-reduction', severity: 'error', range: s.range, array: name,
+      message: `\`reduction(${written}:${name})\` combines the copies of \`${name}\` with \`${written}\`, but this loop updates it as \`${update}\`: each copy starts at the identity of \`${written}\` and the results are combined with it (OpenACC 3.3 §2.5.15; OpenMP 5.2 §5.5), so the host gets neither the ${OPERATOR_WORDS[op]} nor the serial result. Use \`reduction(${op}:${name})\`.`,
+    });
+  });
   return out;
 }
 
