@@ -22,6 +22,13 @@ const DELIBERATE: Record<string, string[]> = {
   'tests/fixtures/races-2/idx_omp.c': ['missing-reduction', 'shared-scalar-write'],
   'tests/fixtures/races-2/overlap.c': ['loop-carried-dependence'],
   'tests/fixtures/verify/host_boundary_omp.c': ['stale-on-device'],
+  'tests/fixtures/dependences/textbook_acc.c': ['loop-carried-dependence'],
+  'tests/fixtures/dependences/textbook_omp.c': ['loop-carried-dependence'],
+  'tests/fixtures/dependences/textbook_acc.f90': ['loop-carried-dependence'],
+  'tests/fixtures/dependences/textbook_omp.f90': ['loop-carried-dependence'],
+  'tests/fixtures/hazards/asserted.c': ['loop-carried-dependence'],
+  'tests/fixtures/hazards/carried_scalar.c': ['loop-carried-dependence'],
+  'tests/fixtures/hazards/wrong_op.c': ['missing-reduction'],
 };
 
 const SOURCE = /\.(c|cpp|cc|cxx|f90|F90|f|F)$/;

@@ -53,7 +53,17 @@ export interface VerifyArgs extends CommonArgs {
   timeoutSeconds: number;
 }
 
-export type CliArgs = CheckArgs | PlanArgs | VerifyArgs | CalibrateArgs | { command: 'help' } | { command: 'version' } | { command: 'serve' };
+export interface PortArgs extends CommonArgs {
+  command: 'port';
+  /** `FILE[:LINE]`: the file, and a line in the time loop to port (default: every time loop that runs on the host). */
+  file: string;
+  line?: number;
+  /** `--model openacc|openmp` (default: the file's own model, else OpenACC). */
+  model?: 'openacc' | 'openmp';
+  write: boolean;
+}
+
+export type CliArgs = CheckArgs | PlanArgs | VerifyArgs | PortArgs | CalibrateArgs | { command: 'help' } | { command: 'version' } | { command: 'serve' };
 
 export class UsageError extends Error {}
 
@@ -66,6 +76,9 @@ commands:
   verify FILE…             build the program with separate host and device memories (clang's OpenMP
                            offloading to the host), run it, and show the bytes each construct moved beside
                            the ledger's, and whether the results differ from a shared-memory build
+  port FILE[:LINE]         write the port of code that runs on the host: directives for every loop nest it
+                           proves parallel, the data region and the updates host code needs; prints a diff
+                           (--write applies it; --model openacc|openmp)
   translate FILE --to M    rewrite the directives for the other model (openmp or openacc); prints a diff,
                            --write applies it
   serve --stdio            run the language server (also --node-ipc, --socket=N)
@@ -131,6 +144,8 @@ export function parseCli(argv: string[]): CliArgs {
         out: { type: 'string' },
         'max-threads': { type: 'string' },
         run: { type: 'string' },
+        model: { type: 'string' },
+        write: { type: 'boolean' },
         timeout: { type: 'string' },
         'array-mib': { type: 'string' },
         stdio: { type: 'boolean' },
@@ -156,7 +171,7 @@ export function parseCli(argv: string[]): CliArgs {
       maxThreads: positiveInt(values['max-threads'], '--max-threads'), arrayMiB: positiveInt(values['array-mib'], '--array-mib'),
     };
   }
-  if (command !== 'check' && command !== 'plan' && command !== 'verify') throw new UsageError(`unknown command \`${command}\`; the commands are: check, plan, verify, translate, calibrate, serve`);
+  if (command !== 'check' && command !== 'plan' && command !== 'verify' && command !== 'port') throw new UsageError(`unknown command \`${command}\`; the commands are: check, plan, port, verify, translate, calibrate, serve`);
   // No paths: the files of the compilation database (main.ts says so when there is none).
   const bindings = new Map<string, number>();
   for (const b of values.bind ?? []) {
@@ -186,6 +201,13 @@ export function parseCli(argv: string[]): CliArgs {
     ...(values['compile-commands'] !== undefined ? { compileCommands: values['compile-commands'] } : {}),
   };
   if (command === 'check') return { command, paths, ...common };
+  if (command === 'port') {
+    if (paths.length !== 1) throw new UsageError('port takes one file, optionally with a line: `offload-ledger port heat.c:42`');
+    const m = /^(.*?)(?::(\d+))?$/.exec(paths[0])!;
+    const model = values.model;
+    if (model !== undefined && model !== 'openacc' && model !== 'openmp') throw new UsageError(`unknown model \`${model}\`; use openacc or openmp`);
+    return { command, ...common, file: m[1], ...(m[2] ? { line: Number(m[2]) } : {}), ...(model ? { model } : {}), write: values.write ?? false };
+  }
   if (command === 'verify') {
     if (format !== 'text' && format !== 'json') throw new UsageError('verify prints text or json');
     return {

@@ -20,6 +20,7 @@ import { planningHtml } from '../planning/html';
 import { startServer } from '../lsp';
 import { formatVerify, verify, verifyJson } from './verify';
 import { runTranslate } from './translate';
+import { runPort } from './port';
 import { translateDirectives } from '../core/translate';
 
 type Out = (s: string) => void;
@@ -46,6 +47,8 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
         else out(`wrote profile \`measured\` to ${file}: ${(host.bandwidthNode / 1e9).toFixed(1)} GB/s node, ${(host.bandwidthCore / 1e9).toFixed(1)} GB/s one core; use it with --profile measured`);
         return 0;
       }
+      case 'port':
+        return await runPort(args, out, err);
       case 'verify': {
         const r = await verify(args, (line) => err(`offload-ledger: ${line}`), (text, language, to) => translateDirectives(text, language, to));
         out(args.format === 'json' ? JSON.stringify(verifyJson(r), null, 2) : formatVerify(r, (p) => relative(process.cwd(), p).split(sep).join('/')));

@@ -89,7 +89,11 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
     out.push(formatTable(rows).replace(/^/gm, '    '));
   }
   const e = t.estimate;
-  if (e && e.speedup && e.hostSeconds !== null && e.deviceSeconds !== null) {
+  if (t.plans) {
+    // Code that runs on the host: today's step, then the plans of a port.
+    if (e?.hostSeconds !== null && e?.hostSeconds !== undefined) out.push(`    per step on the host today: ${seconds(e.hostSeconds)} (${t.plans.baseline === 'core' ? 'one core' : 'the whole node'})`);
+    out.push(...formatPlans(t.plans));
+  } else if (e && e.speedup && e.hostSeconds !== null && e.deviceSeconds !== null) {
     out.push(`    per step: host ${seconds(e.hostSeconds)}; offloaded ${seconds(e.deviceSeconds)} = kernels ${seconds(e.kernelSeconds!)} + launches ${seconds(e.launchSeconds!)} + transfers ${seconds(e.transferSeconds!)} + host code ${seconds(e.hostLeftSeconds!)}`);
     out.push(`    speedup ${spread(e.speedup)} (expected ${factor(e.speedup.expected)}×), bound by ${e.bound}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${e.withRegion.bound})` : ''}`);
     if (e.residentBytes !== null) out.push(`    resident on the device: ${formatBytes(e.residentBytes)}${e.runsPerDevice !== null ? `; ${e.runsPerDevice} run${e.runsPerDevice === 1 ? '' : 's'} fit on one device` : ''}`);
@@ -100,6 +104,31 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
     out.push(`    suggested data region: ${directive ?? r.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' ')}${r.updates.length > 0 ? ` plus ${r.updates.length} update${r.updates.length === 1 ? '' : 's'} for host code in the loop` : ''}`);
     for (const n of r.notes) out.push(`    note: ${n}`);
   }
+  return out;
+}
+
+/** The port plans of a time loop that runs on the host (port/plans.ts). */
+function formatPlans(p: NonNullable<TimeLoopReport['plans']>): string[] {
+  const model = p.family === 'openacc' ? 'OpenACC' : 'OpenMP';
+  const base = p.baseline === 'core' ? 'one-core' : 'whole-node';
+  const out = [`    port plans (${model}, before any directive is written; ${base} baseline):`];
+  const nests = p.offloaded.map((o) => `${o.line}${o.collapse > 1 ? ` collapse(${o.collapse})` : ''}`).join(', ');
+  const figs = (f: typeof p.naive): string => {
+    const moved = f.bytesPerStep.toDevice === null || f.bytesPerStep.toHost === null ? 'bytes per step unbound' : `${formatBytes(f.bytesPerStep.toDevice)} to device, ${formatBytes(f.bytesPerStep.toHost)} to host per step`;
+    const step = f.stepSeconds !== null ? `; step ${seconds(f.stepSeconds)}` : '';
+    const speed = f.speedup ? `; speedup ${spread(f.speedup)} (expected ${factor(f.speedup.expected)}×), bound by ${f.bound}` : '; no estimate (a size is unbound)';
+    const fit = f.residentBytes !== null ? `; ${formatBytes(f.residentBytes)} on the device${f.fits === false ? ', MORE than the device memory' : ', fits'}` : '';
+    return `${moved}${step}${speed}${fit}`;
+  };
+  if (p.offloaded.length === 0) {
+    out.push('      no nest can be offloaded as it is (see below)');
+  } else {
+    out.push(`      1 naive:    loop${p.offloaded.length === 1 ? '' : 's'} at line${p.offloaded.length === 1 ? '' : 's'} ${nests} offloaded, data moved by each construct: ${figs(p.naive)}`);
+    out.push(`      2 resident: plus a data region around the time loop${p.updates.length > 0 ? ` and ${p.updates.length} update${p.updates.length === 1 ? '' : 's'} for host code` : ''}: ${figs(p.resident)}`);
+  }
+  for (const h of p.onHost) out.push(`      stays on the host: line ${h.line} (${h.procedure}): ${h.reason}`);
+  if (p.hostShare !== null && p.offloaded.length > 0) out.push(`      host code left in the loop: ${(100 * p.hostShare).toFixed(p.hostShare < 0.1 ? 1 : 0)}% of the resident step (it bounds the speedup, Amdahl)`);
+  if (p.offloaded.length > 0) out.push('      `offload-ledger port FILE` prints the resident port as a diff (--write applies it)');
   return out;
 }
 
@@ -114,12 +143,12 @@ function atMostBecause(t: TimeLoopReport): string {
   return `${exits.length > 0 ? exits.join(' or ') : 'a `break` or `exit`'} may end the loop earlier`;
 }
 
-function spread(s: { low: number; high: number }): string {
+export function spread(s: { low: number; high: number }): string {
   return `${factor(s.low)}–${factor(s.high)}×`;
 }
 
 /** A speed-up factor: two decimals, or two significant digits below 0.1 (never "0.00"). */
-function factor(x: number): string {
+export function factor(x: number): string {
   return x >= 0.1 || x === 0 ? x.toFixed(2) : Number(x.toPrecision(2)).toString();
 }
 

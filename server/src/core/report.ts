@@ -2,6 +2,7 @@
  * Builds the machine-readable report (shared/contracts/report.schema.json) from analyses.
  * Lines and columns become 1-based here and nowhere else in the core.
  */
+import type { PlanFigures, TimeLoopPlans } from './port/plans';
 import type { FileAnalysis, TimeLoopReport } from './analyze';
 import type { Quantity } from './analysis/bindings';
 import type { Finding } from './types';
@@ -47,7 +48,9 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
         ...(r.estimate ? { estimate: nestEstimateJson(r.estimate) } : {}),
       };
     }),
-    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => ({ ...timeLoopJson(t.ledger!), ...timeLoopWhy(t), ...(t.estimate ? { estimate: stepEstimateJson(t.estimate) } : {}) })),
+    timeLoops: a.timeLoops.filter((t) => t.ledger).map((t) => ({
+      ...timeLoopJson(t.ledger!), ...timeLoopWhy(t), ...(t.estimate ? { estimate: stepEstimateJson(t.estimate) } : {}), ...(t.plans ? { plans: plansJson(t.plans) } : {}),
+    })),
     ...(a.notTimeLoops.length > 0
       ? { notTimeLoops: a.notTimeLoops.map((r) => ({ line: r.loop.keywordRange.start.line + 1, function: r.procedure.name, variable: r.loop.variable ?? '', reason: r.reason })) }
       : {}),
@@ -124,6 +127,21 @@ function stepEstimateJson(e: StepEstimate): Record<string, unknown> {
   if (e.bound) out.bound = e.bound;
   if (e.withRegion) out.withRegion = { deviceSeconds: r(e.withRegion.deviceSeconds), speedup: spreadJson(e.withRegion.speedup), bound: e.withRegion.bound };
   return out;
+}
+
+function plansJson(p: TimeLoopPlans): Record<string, unknown> {
+  const r = (x: number | null): number | null => (x === null ? null : round(x));
+  const fig = (f: PlanFigures): Record<string, unknown> => ({
+    bytesPerStep: f.bytesPerStep, transfersPerStep: round(f.transfersPerStep), stepSeconds: r(f.stepSeconds),
+    speedup: f.speedup ? spreadJson(f.speedup) : null, bound: f.bound, residentBytes: f.residentBytes, fitsDeviceMemory: f.fits,
+  });
+  return {
+    model: p.family, baseline: p.baseline, hostStepSeconds: r(p.hostStepSeconds), hostShare: p.hostShare === null ? null : round(p.hostShare),
+    naive: fig(p.naive), resident: fig(p.resident),
+    offloaded: p.offloaded.map((o) => ({ line: o.line, function: o.procedure, collapse: o.collapse, clauses: o.clauses })),
+    onHost: p.onHost.map((h) => ({ line: h.line, function: h.procedure, reason: h.reason })),
+    updates: p.updates,
+  };
 }
 
 /** The machine profile as the report's `machine` object: names, the figures used, and their sources. */

@@ -562,6 +562,9 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
   const loopVars = new Set<string>();
   walkStatements([nest.root], (s) => {
     if (s.kind === 'loop' && s.variable) loopVars.add(s.variable);
+    // An update under `atomic` (or an OpenMP `critical`) is a synchronised update of the shared
+    // variable, not a reduction that is missing (OpenACC 3.3 §2.12; OpenMP 5.2 §15.8.4, §15.2).
+    if (s.directives.some((d) => /^(atomic|critical)\b/.test(d.construct))) return false;
     if (s.kind !== 'assign' || s.target.kind !== 'var') return;
     const name = s.target.name;
     if (firstUse.has(name)) return;

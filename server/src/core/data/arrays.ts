@@ -31,7 +31,12 @@ export function arrayInfo(name: string, decl: Declaration | undefined, layout: L
   let extents: number[] | undefined;
   if (decl && decl.dims.length > 0) {
     const values = decl.dims.map((d) => S.evaluate(d, bindings));
-    if (values.every((v): v is number => v !== undefined && v > 0)) extents = layout === 'row-major' ? [...values].reverse() : values;
+    if (values.every((v): v is number => v !== undefined && v > 0)) {
+      // A pointer to arrays (`double (*u)[NX]`) has one more, leading extent: the rows it holds.
+      const inner = values.reduce((a, b) => a * b, 1);
+      const all = decl.isPointer && countValue !== undefined && countValue % inner === 0 && countValue > inner ? [countValue / inner, ...values] : values;
+      extents = layout === 'row-major' ? [...all].reverse() : all;
+    }
   }
   if (!extents) extents = shapeFromStrides(nestStrides, bindings, countValue);
   let approximate = false;

@@ -100,6 +100,11 @@ export interface TimeLoopRun {
   residentArrays: Set<string>;
   /** Pointers that hold device addresses (acc_malloc, omp_target_alloc, deviceptr, is_device_ptr): never copied, never in a region. */
   devicePointers: Set<string>;
+  /**
+   * Storages that swaps or rotations in the loop move between names (`tmp = u; u = un; un = tmp`):
+   * after the loop, which of them a name holds depends on the number of steps.
+   */
+  rotated: Set<string>;
 }
 
 interface Frame {
@@ -458,7 +463,7 @@ export class DataInterpreter {
       loop, procedure: ctx.frame.proc, transfers: [], liveAtEntry: new Map(), presentAtEntry: new Set(),
       needsHostValues: new Set(), deviceWritten: new Map(), deviceReads: new Set(), deviceWrites: new Set(), deviceUsed: new Set(),
       hostTouches: [], neededAfter: new Set(), residentPeak: 0, residentArrays: new Set(), kernels: [], hostNests: [],
-      devicePointers: this.devicePointers,
+      devicePointers: this.devicePointers, rotated: new Set(),
     };
     for (const k of this.env.presentKeys()) {
       run.presentAtEntry.add(k);
@@ -466,8 +471,14 @@ export class DataInterpreter {
     }
     this.runs.push(run);
     const base: Ctx = { ...ctx, run, multiplier: S.num(1), everySteps: 1, ancestors: [] };
+    const namesBefore = new Map(ctx.frame.rename);
     // First pass: the first step, which brings the environment to its steady state.
     this.exec(loop.body, { ...base, recording: false });
+    for (const name of new Set([...namesBefore.keys(), ...ctx.frame.rename.keys()])) {
+      const was = namesBefore.get(name) ?? name;
+      const is = ctx.frame.rename.get(name) ?? name;
+      if (was !== is) run.rotated.add(was).add(is);
+    }
     // Second pass: the steady state, recorded per step.
     this.exec(loop.body, { ...base, recording: true });
     this.afterLoop = run;

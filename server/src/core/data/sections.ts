@@ -34,7 +34,9 @@ export function wholeBytes(info: ArrayInfo): S.Expr {
 export function clauseSection(ref: VarRef, info: ArrayInfo, lang: SourceLanguage, bindings: ReadonlyMap<string, S.Expr>, numeric: ReadonlyMap<string, S.Expr>): Section {
   const whole = (): Section => ({ bytes: wholeBytes(info), region: [wholeBox(info.shape)], whole: true });
   if (ref.dims.length === 0 || info.isScalar) return whole();
-  const dims = info.decl?.dims ?? [];
+  // A C pointer to arrays (`double (*u)[NX]`) is indexed by rows first: its sections count rows.
+  const rows = lang !== 'fortran' && info.decl?.isPointer && info.decl.dims.length > 0 && info.elementCount;
+  const dims = rows ? [S.div(info.elementCount!, S.mul(...info.decl!.dims)), ...info.decl!.dims] : info.decl?.dims ?? [];
   const lowers = info.decl?.lowerBounds ?? [];
   const starts: S.Expr[] = [];
   const lengths: S.Expr[] = [];
@@ -56,6 +58,13 @@ export function clauseSection(ref: VarRef, info: ArrayInfo, lang: SourceLanguage
     lo = S.substitute(lo, bindings);
     starts.push(S.sub(lo, base));
     lengths.push(S.substitute(len, bindings));
+  }
+  // Dimensions the section leaves out are whole (`u[0:NY]` of `double (*u)[NX]` is NY whole rows).
+  if (rows) {
+    for (let d = ref.dims.length; d < dims.length; d++) {
+      starts.push(S.num(0));
+      lengths.push(dims[d]);
+    }
   }
   const bytes = S.mul(S.num(info.elementBytes), ...lengths);
   const region = sectionRegion(starts, lengths, info, lang, numeric);

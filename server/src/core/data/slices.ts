@@ -16,7 +16,15 @@ const src = (e: S.Expr, lang: SourceLanguage): string => S.toSource(e, lang === 
 export function wholeSectionText(name: string, info: ArrayInfo, lang: SourceLanguage): string | undefined {
   if (lang === 'fortran' || (info.decl && info.decl.dims.length > 0 && !info.decl.isPointer)) return name;
   if (!info.elementCount) return undefined;
-  return `${name}[0:${src(info.elementCount, lang)}]`;
+  return `${name}[0:${src(leadingCount(info.elementCount, info.decl?.isPointer ? info.decl.dims : []), lang)}]`;
+}
+
+/**
+ * How many of a pointer's pointees the whole array holds: its elements for `double *p`, its rows
+ * for a pointer to arrays `double (*u)[NX]` (the section `u[0:NY]` covers NY rows of NX).
+ */
+export function leadingCount(elements: S.Expr, innerDims: readonly S.Expr[]): S.Expr {
+  return innerDims.length === 0 ? elements : S.div(elements, S.mul(...innerDims));
 }
 
 /**

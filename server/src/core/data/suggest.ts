@@ -11,6 +11,7 @@
  * before the time loop in C (the loop is the structured block), a directive before and an
  * `end` directive after it in Fortran, and `update` lines around the host statements.
  */
+import { rangeWithin } from '../ranges';
 import type { Procedure, ProgramModel, Stmt } from '../model/program';
 import { accessesOfStatement, childStatements } from '../model/values';
 import { calleesOf } from '../model/callees';
@@ -95,7 +96,9 @@ export function suggestDataRegion(
     const written = run.deviceWritten.get(k) ?? [];
     const writesAll = !!info && covers(written, [wholeBox(info.shape)]) && !info.shapeApproximate;
     const readFirst = run.needsHostValues.has(k) || !run.deviceWrites.has(k);
-    const after = run.neededAfter.has(k) || escapes(k);
+    // Storages the loop rotates between names: after the loop a name read there may hold any of
+    // them (it depends on the step count), so each comes back if one is needed.
+    const after = run.neededAfter.has(k) || escapes(k) || (run.rotated.has(k) && [...run.rotated].some((r) => run.neededAfter.has(r) || escapes(r)));
     const kind: Kind = readFirst ? (after ? 'copy' : 'copyin') : after ? (writesAll ? 'copyout' : 'copy') : 'create';
     const container = info?.decl?.container;
     const section = info && !container ? wholeSectionText(k, info, lang) : undefined;
@@ -144,8 +147,13 @@ function addUpdates(out: DataRegionSuggestion, run: TimeLoopRun, model: ProgramM
     const info = infoOf(g.key);
     if (!info) continue;
     const symbolic = new Map([...g.touches[0].bindings].filter(([k]) => !fileNames.has(k)));
-    const texts = [...new Set(g.touches.map((t) => touchSectionText(t, g.key, info, lang, symbolic)))];
-    const section = texts.length === 1 && texts[0] ? texts[0] : regionSectionText(g.touches.flatMap((t) => t.region), g.key, info, lang);
+    // The update names the array as the code does where it goes: after a swap or a rotation the
+    // storage `g.key` is held by another name (`curr` holds what was `next`). A touch inside a
+    // callee is named by its storage key, which is the caller's name for it.
+    const local = g.touches.every((t) => rangeWithin(t.access.range, g.anchor.range) && t.access.array === g.touches[0].access.array) && !g.touches[0].access.array.includes('::')
+      ? g.touches[0].access.array : g.key;
+    const texts = [...new Set(g.touches.map((t) => touchSectionText(t, local, info, lang, symbolic)))];
+    const section = texts.length === 1 && texts[0] ? texts[0] : regionSectionText(g.touches.flatMap((t) => t.region), local, info, lang);
     const direction = g.kind === 'read' ? 'toHost' : 'toDevice';
     const placed = updateLines(g.anchor, g.ancestors, text, lang, family, direction, section);
     if (!placed) {

@@ -21,6 +21,7 @@ import { MATH_FLOPS, mathName } from '../cost/flops';
 import * as S from '../symbolic';
 import type { Directive, DirectiveFamily, Range } from '../types';
 import { rangeWithin } from '../ranges';
+import { leadingCount } from '../data/slices';
 
 export interface PortNest {
   root: LoopStmt;
@@ -196,7 +197,7 @@ function dataClauses(
       const here = S.evaluate(count, e.bindings);
       if (here === undefined) return `the size of \`${name}\` in \`${proc.name}\` is not known`;
     }
-    const section = `${name}[0:${S.toSource(count, 'c')}]`;
+    const section = `${name}[0:${S.toSource(leadingCount(count, decl?.isPointer ? decl.dims : []), 'c')}]`;
     (writes.has(name) ? copy : copyin).push(section);
   }
   const out: string[] = [];

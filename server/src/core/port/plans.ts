@@ -102,6 +102,7 @@ export function portPlans(
   const live = nests.filter((n) => !dropped.has(n));
   const { edits } = portEdits(text, analysis.model, live, family);
   naiveText = applyTextEdits(text, edits);
+  const origin = lineOrigin(text, edits);
   ported = analyze(naiveText, true);
   const portedLoops = ported.timeLoops.filter((t) => t.ledger);
   const plans = new Map<TimeLoopReport, TimeLoopPlans>();
@@ -135,7 +136,8 @@ export function portPlans(
     }
     plans.set(tl, {
       family, baseline, hostStepSeconds: tl.estimate?.hostSeconds ?? null, offloaded, onHost, hostShare, naive, resident,
-      updates: twin?.ledger?.dataRegion?.updates ?? [],
+      // Update lines are lines of the ported text; the report names the original's.
+      updates: (twin?.ledger?.dataRegion?.updates ?? []).map((u) => ({ ...u, line: (origin[u.line - 1] ?? u.line - 1) + 1 })),
     });
   }
   return { text: finalText, naiveText, plans };
@@ -168,6 +170,26 @@ function reviewRaces(ported: FileAnalysis, live: PortNest[], edits: TextEdit[], 
     }
   }
   return changed;
+}
+
+/**
+ * For each line of a text after the port's edits (whole-line insertions at column 0, and
+ * whole-line replacements), the 0-based original line it comes from or stands before.
+ */
+function lineOrigin(text: string, edits: TextEdit[]): number[] {
+  const count = text.split('\n').length;
+  const inserted = new Map<number, number>();
+  for (const e of edits) {
+    if (e.range.start.col === 0 && e.range.end.col === 0 && e.range.start.line === e.range.end.line) {
+      inserted.set(e.range.start.line, (inserted.get(e.range.start.line) ?? 0) + e.newText.split('\n').length - 1);
+    }
+  }
+  const out: number[] = [];
+  for (let k = 0; k < count; k++) {
+    for (let j = 0; j < (inserted.get(k) ?? 0); j++) out.push(k);
+    out.push(k);
+  }
+  return out;
 }
 
 /** `copy(a[0:n]) copyin(b[0:n])` → `present(a[0:n], b[0:n])`. */

@@ -248,7 +248,18 @@ export class CExpressionBuilder {
       }
     }
     if (!t || t.name === 'unknown') return { kind: 'call', name: 'sizeof', args: [{ kind: 'opaque', text: n.text }] };
-    return { kind: 'num', text: String(t.bytes), isFloat: false };
+    let bytes: VExpr = { kind: 'num', text: String(t.bytes), isFloat: false };
+    // `sizeof(double[NY][NX])`: an array type is its element times its extents.
+    if (typeNode && !/\*/.test(typeNode.text)) {
+      let d = field(typeNode, 'declarator');
+      while (d && d.type === 'abstract_array_declarator') {
+        const size = field(d, 'size');
+        if (!size) break;
+        bytes = { kind: 'bin', op: '*', left: bytes, right: this.value(size) };
+        d = field(d, 'declarator');
+      }
+    }
+    return bytes;
   }
 }
 
