@@ -103,8 +103,32 @@ export interface ReportTimeLoop {
   dataRegion: { clauses: { array: string; clause: string; section?: string }[]; edits: { line: number; text: string }[] } | null;
   residentBytes: number | null;
   estimate?: StepEstimate;
+  /** For a time loop that runs on the host: the port plans (the JSON report's `plans`). */
+  plans?: ReportPlans;
   /** Planning view only: the work of one step and the transfers once the suggested region is applied. */
   step?: PlanningStep;
+}
+
+export interface ReportPlanFigures {
+  bytesPerStep: { toDevice: number | null; toHost: number | null };
+  transfersPerStep: number;
+  stepSeconds: number | null;
+  speedup: { low: number; expected: number; high: number } | null;
+  bound: string | null;
+  residentBytes: number | null;
+  fitsDeviceMemory: boolean | null;
+}
+
+export interface ReportPlans {
+  model: 'openacc' | 'openmp';
+  baseline: 'node' | 'core';
+  hostStepSeconds: number | null;
+  hostShare: number | null;
+  naive: ReportPlanFigures;
+  resident: ReportPlanFigures;
+  offloaded: { line: number; function: string; collapse: number; clauses: string[] }[];
+  onHost: { line: number; function: string; reason: string }[];
+  updates: { array: string; direction: string; section: string; line: number }[];
 }
 
 /** One nest's part of a step: its time per step and its share of each plan's step. */

@@ -105,6 +105,9 @@ function timeLoopsTable(ctx: Ctx, rows: TimeLoopRow[]): string {
   const body = rows.map((r) => {
     const e = r.t.estimate;
     const s = r.t.step;
+    // Code that runs on the host: the "after" columns show the resident port plan.
+    const plan = r.t.plans?.resident;
+    const after = e?.withRegion ?? (plan ? { deviceSeconds: plan.stepSeconds, speedup: plan.speedup, bound: plan.bound } : undefined);
     const link = `${bytes(s?.linkBytes ?? (r.t.perStep.toDevice.value ?? 0) + (r.t.perStep.toHost.value ?? 0))}${s && s.linkBytesWithRegion !== null ? ` → ${bytes(s.linkBytesWithRegion)}` : ''}`;
     return [
       td(`<a href="#${r.label}">${r.label}</a>`, 'label'),
@@ -114,9 +117,9 @@ function timeLoopsTable(ctx: Ctx, rows: TimeLoopRow[]): string {
       td(seconds(e?.deviceSeconds)),
       td(speedup(e?.speedup)),
       td(esc(bound(e?.bound))),
-      td(seconds(e?.withRegion?.deviceSeconds)),
-      td(speedup(e?.withRegion?.speedup)),
-      td(e?.withRegion ? esc(bound(e.withRegion.bound)) : '—'),
+      td(`${seconds(after?.deviceSeconds)}${plan && !e?.withRegion ? ' <small>(port plan 2)</small>' : ''}`),
+      td(speedup(after?.speedup ?? undefined)),
+      td(after?.bound ? esc(bound(after.bound as never)) : '—'),
       td(link),
     ];
   });
@@ -239,6 +242,19 @@ async function timeLoopSection(ctx: Ctx, f: PlanningFile, r: TimeLoopRow, focuse
     ['speedup as written', e?.speedup ? `${speedup(e.speedup)}, bound by ${esc(bound(e.bound))}` : 'not estimated'],
   ];
   if (e?.withRegion?.speedup) rows.push(['with the suggested data region', `${speedup(e.withRegion.speedup)}, bound by ${esc(bound(e.withRegion.bound))}`]);
+  const p = t.plans;
+  if (p) {
+    const fig = (x: NonNullable<typeof p>['naive']): string =>
+      `${bytes(x.bytesPerStep.toDevice)} to the device and ${bytes(x.bytesPerStep.toHost)} to the host per step; step ${seconds(x.stepSeconds)}; ${x.speedup ? `${speedup(x.speedup)}, bound by ${esc(bound(x.bound as never))}` : 'not estimated'}${x.fitsDeviceMemory === false ? '; does NOT fit the device memory' : ''}`;
+    const nests = p.offloaded.map((o) => `${o.line}${o.collapse > 1 ? ` (collapse ${o.collapse})` : ''}`).join(', ');
+    rows.push(['port plans', `before any directive is written: ${p.model === 'openacc' ? 'OpenACC' : 'OpenMP'}, ${p.baseline === 'core' ? 'one-core' : 'whole-node'} baseline; loops offloaded: ${p.offloaded.length > 0 ? esc(nests) : 'none'}`]);
+    if (p.offloaded.length > 0) {
+      rows.push(['plan 1, naive (each construct moves its data)', fig(p.naive)]);
+      rows.push(['plan 2, resident (a data region around the loop)', `${fig(p.resident)}${p.updates.length > 0 ? `; ${p.updates.length} update${p.updates.length === 1 ? '' : 's'} for host code` : ''}`]);
+    }
+    for (const h of p.onHost) rows.push([`stays on the host: line ${h.line}`, esc(h.reason)]);
+    if (p.hostShare !== null && p.offloaded.length > 0) rows.push(['host code in the resident step', `${(100 * p.hostShare).toFixed(p.hostShare < 0.1 ? 1 : 0)}% (Amdahl)`]);
+  }
   if (e?.runsPerDevice != null) rows.push(['independent runs per device', String(e.runsPerDevice)]);
   const region = t.dataRegion
     ? `<p>Suggested data region: <code>${esc(t.dataRegion.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' '))}</code>${t.dataRegion.edits.length > 0 ? ` (${t.dataRegion.edits.length} line${t.dataRegion.edits.length === 1 ? '' : 's'} to insert; the quick fix on the finding applies them)` : ''}</p>`

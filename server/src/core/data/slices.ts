@@ -62,10 +62,22 @@ export function touchSectionText(t: HostTouch, name: string, info: ArrayInfo, la
     return `${name}(${ranges.map((r) => `${src(r.lo, lang)}:${src(S.sub(S.add(r.lo, r.len), S.num(1)), lang)}`).join(', ')})`;
   }
   // C: a linearised pointer needs one contiguous range; a multi-dimensional array one range per dimension.
-  if (ranges.length === 1 || (info.decl && info.decl.dims.length === ranges.length)) {
-    return `${name}${ranges.map((r) => `[${src(r.lo, lang)}:${src(r.len, lang)}]`).join('')}`;
+  if (ranges.length === 1) return `${name}[${src(ranges[0].lo, lang)}:${src(ranges[0].len, lang)}]`;
+  if (info.decl && info.decl.dims.length === ranges.length) {
+    return `${name}${contiguous(ranges, info.decl.dims).map((r) => `[${src(r.lo, lang)}:${src(r.len, lang)}]`).join('')}`;
   }
   return undefined;
+}
+
+/**
+ * A C array section must be contiguous (OpenACC 3.3 §2.7.1, OpenMP 5.2 §5.8.3: gcc rejects
+ * "array section is not contiguous"): after the first dimension that takes more than one index,
+ * every dimension is taken whole. `u[1:N-2][1:N-2]` becomes `u[1:N-2][0:N]`: the rows are whole.
+ */
+function contiguous(ranges: { lo: S.Expr; len: S.Expr }[], dims: readonly S.Expr[]): { lo: S.Expr; len: S.Expr }[] {
+  const first = ranges.findIndex((r) => S.constValue(r.len) !== 1);
+  if (first < 0) return ranges;
+  return ranges.map((r, d) => (d > first ? { lo: S.num(0), len: dims[d] } : r));
 }
 
 /** A numeric slice covering a region (its bounding box), for messages and as a fallback. */
@@ -80,7 +92,10 @@ export function regionSectionText(region: Region, name: string, info: ArrayInfo,
     return `${name}(${b.lo.map((lo, d) => `${lo + (lowers[d] ?? 1)}:${b.hi[d] + (lowers[d] ?? 1)}`).join(', ')})`;
   }
   const multi = info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1;
-  if (multi) return `${name}${[...b.lo.keys()].reverse().map((d) => `[${b.lo[d]}:${b.hi[d] - b.lo[d] + 1}]`).join('')}`;
+  if (multi) {
+    const written = [...b.lo.keys()].reverse().map((d) => ({ lo: S.num(b.lo[d]), len: S.num(b.hi[d] - b.lo[d] + 1) }));
+    return `${name}${contiguous(written, [...extents].reverse().map((e) => S.num(e))).map((r) => `[${src(r.lo, lang)}:${src(r.len, lang)}]`).join('')}`;
+  }
   const start = b.lo.reduce((n, v, d) => n + v * strides[d], 0);
   const end = b.hi.reduce((n, v, d) => n + v * strides[d], 0);
   return `${name}[${start}:${end - start + 1}]`;

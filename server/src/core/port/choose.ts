@@ -144,6 +144,9 @@ function hostReason(model: ProgramModel, proc: Procedure, root: LoopStmt, family
   if (root.implied) {
     return family === 'openacc' ? undefined : 'array syntax: OpenMP has no offload loop for it; write it as a do loop to port it';
   }
+  if (/^\s*do\s+concurrent\b/i.test(root.header)) {
+    return 'a `do concurrent` loop takes no loop directive in gcc 12 (it rejects "!$ACC LOOP cannot be a DO CONCURRENT loop", and OpenMP 5.2 loop constructs take DO loops); write it as nested do loops to port it with directives, or let a compiler that offloads do concurrent itself run it';
+  }
   if (!root.variable || !root.tripCount || root.condition !== undefined || root.counter) return 'it is not a counted loop (a while loop or a header the analysis cannot read)';
   if (root.directives.some((d) => d.family !== 'openmp' || d.construct.startsWith('target'))) return 'it already has an offload directive';
   let reason: string | undefined;

@@ -19,8 +19,15 @@ function sameDiagnostic(a: Diagnostic, b: Diagnostic): boolean {
 
 export function codeActionsFor(view: DocumentView, params: CodeActionParams): CodeAction[] {
   const only = params.context.only;
-  if (only && !only.some((k) => CodeActionKind.QuickFix.startsWith(k) || k.startsWith(CodeActionKind.QuickFix))) return [];
+  const wants = (kind: string): boolean => !only || only.some((k) => kind.startsWith(k) || k.startsWith(kind));
   const out: CodeAction[] = [];
+  if (wants(CodeActionKind.RefactorRewrite)) {
+    for (const r of view.refactors ?? []) {
+      if (!overlaps(r.range, params.range)) continue;
+      out.push({ title: r.title, kind: CodeActionKind.RefactorRewrite, edit: { changes: { [view.uri]: r.edits } } });
+    }
+  }
+  if (!wants(CodeActionKind.QuickFix)) return out;
   for (const a of view.actions) {
     const ours = view.diagnostics[a.diagnostic];
     const theirs = params.context.diagnostics.find((d) => sameDiagnostic(d, ours));

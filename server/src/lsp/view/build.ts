@@ -2,6 +2,7 @@
 import type { Diagnostic } from 'vscode-languageserver-protocol';
 import type { FileAnalysis } from '../../core/analyze';
 import { buildActions } from './actions';
+import { buildRefactors } from './refactors';
 import { ViewContext } from './context';
 import { toDiagnostic } from './diagnostics';
 import { buildHovers } from './hovers';
@@ -38,6 +39,7 @@ export function buildView(input: ViewInput, o: ViewOptions): DocumentView {
     lenses: o.codeLens ? buildLenses(a, input.uri, o.profileName) : [],
     inlayHints: o.inlayHints ? buildInlayHints(a) : [],
     actions: buildActions(a, input.text, (k) => diagnosticIndex.get(k)),
+    refactors: buildRefactors(a, input.text),
     planning: buildPlanning(a, input.uri),
     estimatesAvailable: hasEstimates(a),
     internalErrors: a.internalErrors.map((e) => e.split('\n')[0]),

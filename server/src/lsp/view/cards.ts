@@ -85,6 +85,7 @@ export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, c
     rows.push(['speedup', '— (not estimated)']);
   }
   const out = [head, '', why, '', table(rows)];
+  if (t.plans) out.push('', ...plansMd(t.plans));
   if (l.dataRegion) {
     const r = l.dataRegion;
     const updates = r.updates.length > 0 ? ` plus ${r.updates.length} update${r.updates.length === 1 ? '' : 's'} for host code in the loop` : '';
@@ -93,6 +94,29 @@ export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, c
   const symbols = loop.tripCount ? ctx.symbolValues(loop.tripCount, t.timeLoop.procedure) : [];
   out.push('', assumptions(ctx, symbols, s, !!est));
   return out.join('\n');
+}
+
+/** The port plans of a time loop that runs on the host (core/port/plans.ts), as the hover shows them. */
+function plansMd(p: NonNullable<TimeLoopReport['plans']>): string[] {
+  const fig = (f: typeof p.naive): string => {
+    const moved = f.bytesPerStep.toDevice === null || f.bytesPerStep.toHost === null ? 'bytes unbound' : `${formatBytes(f.bytesPerStep.toDevice)} in · ${formatBytes(f.bytesPerStep.toHost)} out per step`;
+    const speed = f.speedup ? `${formatSpeedup(f.speedup)} (expected ${formatFactor(f.speedup.expected)}×), bound by ${boundText(f.bound)}` : '— (a size is unbound)';
+    return `${moved}; step ${formatSeconds(f.stepSeconds)}; ${speed}${f.fits === false ? '; **does not fit the device memory**' : ''}`;
+  };
+  const model = p.family === 'openacc' ? 'OpenACC' : 'OpenMP';
+  const out = [`**Port plans** (${model}, before any directive is written; ${p.baseline === 'core' ? 'one-core' : 'whole-node'} baseline, host step ${formatSeconds(p.hostStepSeconds)}):`, ''];
+  if (p.offloaded.length > 0) {
+    const rows: [string, string][] = [
+      ['loops offloaded', p.offloaded.map((o) => `${o.line}${o.collapse > 1 ? ` (collapse ${o.collapse})` : ''}`).join(', ')],
+      ['1 · naive', fig(p.naive)],
+      ['2 · resident', `${fig(p.resident)}${p.updates.length > 0 ? `; ${p.updates.length} update${p.updates.length === 1 ? '' : 's'} for host code` : ''}`],
+    ];
+    if (p.hostShare !== null) rows.push(['host code in plan 2', `${(100 * p.hostShare).toFixed(p.hostShare < 0.1 ? 1 : 0)}% of the step (Amdahl)`]);
+    out.push(table(rows));
+  } else out.push('No loop nest can be offloaded as it is.');
+  for (const h of p.onHost) out.push('', `_Stays on the host:_ line ${h.line} (\`${h.procedure}\`): ${h.reason}.`);
+  if (p.offloaded.length > 0) out.push('', 'The code action *Port this time loop* writes plan 2; `offload-ledger port FILE` prints it as a diff.');
+  return out;
 }
 
 /** How the steps were counted, for a loop whose count comes from a step counter or is a bound. */

@@ -30,6 +30,8 @@ export interface DocumentView {
   lenses: CodeLens[];
   inlayHints: InlayHint[];
   actions: ActionEntry[];
+  /** Code actions that fix no finding: port a time loop, translate the directives (view/refactors.ts). */
+  refactors: import('./refactors').RefactorEntry[];
   planning: PlanningFile;
   estimatesAvailable: boolean;
   /** First lines of internal errors of the core (logged by the server, never shown as findings). */
