@@ -20,7 +20,7 @@ import { parseCli, type VerifyArgs } from '../server/src/cli/args';
 import { findToolchain, formatVerify, verify, type VerifyReport } from '../server/src/cli/verify';
 import { readMapLog } from '../server/src/core/verify/mapLog';
 import { compareOutputs } from '../server/src/core/verify/outputs';
-import { applyLineEdits } from '../server/src/core/data/edits';
+import { applyLineEdits, applyTextEdits } from '../server/src/core/data/edits';
 import type { TextEdit } from '../server/src/core/types';
 import { ROOT, analyzeText, runCli } from './helpers';
 
@@ -148,6 +148,33 @@ const PROGRAMS: { file: string; defines?: Record<string, string>; stale?: boolea
   { file: 'tests/fixtures/data-flow/swap_structs_fixed.cpp' },
   { file: 'tests/fixtures/data-flow/swap_structs.cpp', stale: true },
   { file: 'tests/fixtures/verify/host_boundary_omp.c', stale: true },
+  // OpenACC programs go through the translation to OpenMP (core/translate) and the same check.
+  { file: 'examples/heat2d/heat2d_acc.c', defines: { NX: '64', NY: '64', STEPS: '20' } },
+  { file: 'examples/hall/hall_naive_acc.c', defines: { NX: '40', NY: '30', NZ: '20', STEPS: '30' } },
+  { file: 'examples/hall/hall_resident_acc.c', defines: { NX: '40', NY: '30', NZ: '20', STEPS: '30' } },
+  { file: 'examples/hall/hall_stale_acc.c', defines: { NX: '40', NY: '30', NZ: '20', STEPS: '30' }, stale: true },
+  { file: 'tests/fixtures/index-locals/five_point.c' },
+  { file: 'tests/fixtures/index-locals/chain.c' },
+  { file: 'tests/fixtures/estimate/resident_inplace.c' },
+  { file: 'tests/fixtures/estimate/copy_every_step.c' },
+  { file: 'tests/fixtures/estimate/host_in_loop.c' },
+  { file: 'tests/fixtures/time-loops/tiles.c' },
+  { file: 'tests/fixtures/time-loops/jacobi_tol.c' },
+  { file: 'tests/fixtures/time-loops/history.c' },
+  { file: 'tests/fixtures/data/snapshot_naive.c' },
+  { file: 'tests/fixtures/data/snapshot_every_k.c' },
+  { file: 'tests/fixtures/data/present_inside_region.c' },
+  { file: 'tests/fixtures/data/enter_data_row_update.c' },
+  { file: 'tests/fixtures/data/callee_clauses.c' },
+  { file: 'tests/fixtures/data/wide_update.c' },
+  { file: 'tests/fixtures/data/implicit_static.c' },
+  { file: 'tests/fixtures/data/stale_receiver.c', stale: true },
+  { file: 'tests/fixtures/data/host_source.c', stale: true },
+  { file: 'tests/fixtures/preprocessor/jacobi_macro.c' },
+  { file: 'tests/fixtures/cpp/wave.cpp' },
+  { file: 'tests/fixtures/data-flow/split_host.c' },
+  { file: 'tests/fixtures/data-flow/alloc_routine.c' },
+  { file: 'tests/fixtures/data-flow/edge_rows.c' },
 ];
 
 describe.skipIf(!haveOffload)('verify: measured bytes per construct equal the ledger, with separate memories', () => {
@@ -163,6 +190,7 @@ describe.skipIf(!haveOffload)('verify: measured bytes per construct equal the le
     // The output with separate memories equals the shared-memory output exactly when the
     // program has no stale data; each stale program shows the difference.
     expect(r.sameOutput, why).toBe(!stale);
+    if (/#pragma acc/.test(readFileSync(join(ROOT, file), 'utf8'))) expect(r.notes.join('\n')).toMatch(/translated to OpenMP/);
     const analysis = await analyzeText(readFileSync(join(ROOT, file), 'utf8'), join(ROOT, file), undefined, undefined, undefined, { defines: new Map(Object.entries(defines ?? {})) });
     const staleFindings = analysis.findings.filter((f) => f.code.startsWith('stale-'));
     if (stale) expect(staleFindings.length, why).toBeGreaterThan(0);
@@ -231,6 +259,39 @@ describe.skipIf(!haveOffload)('verify: measured bytes per construct equal the le
       const before = original.comparison.timeLoops[0].measured!;
       const after = r.comparison.timeLoops[0].measured!;
       expect(after.toDevice + after.toHost).toBeLessThan(before.toDevice + before.toHost);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  // The quick fixes of the stale-data findings (tests/fixes.test.ts compiles them with gcc's shared
+  // memory, where the bug never shows): with separate memories each fixed program must print what
+  // the shared-memory build prints, and the bytes it moves must be its ledger's.
+  it.each<{ file: string; codes: string[]; defines: Record<string, string> }>([
+    { file: 'tests/fixtures/verify/host_boundary_omp.c', codes: ['stale-on-device'], defines: {} },
+    { file: 'tests/fixtures/data/stale_receiver.c', codes: ['stale-on-host'], defines: {} },
+    { file: 'tests/fixtures/data/host_source.c', codes: ['stale-on-device'], defines: {} },
+    { file: 'examples/hall/hall_stale_acc.c', codes: ['stale-on-host', 'stale-on-device'], defines: { NX: '40', NY: '30', NZ: '20', STEPS: '30' } },
+  ])('the quick fixes of $file, measured', async ({ file, codes, defines }) => {
+    let text = readFileSync(join(ROOT, file), 'utf8');
+    const settings = { defines: new Map(Object.entries(defines)) };
+    // Apply one fix at a time, re-analysing in between (each fix's ranges are those of its own analysis).
+    for (let round = 0; round < 6; round++) {
+      const a = await analyzeText(text, join(ROOT, file), undefined, undefined, undefined, settings);
+      const f = a.findings.find((x) => codes.includes(x.code) && x.fixes?.length);
+      if (!f) break;
+      text = applyTextEdits(text, f.fixes![0].edits);
+    }
+    const dir = mkdtempSync(join(tmpdir(), 'ol-fixed-'));
+    try {
+      const fixed = join(dir, file.split('/').pop()!);
+      writeFileSync(fixed, text);
+      const after = await analyzeText(text, fixed, undefined, undefined, undefined, settings);
+      expect(after.findings.filter((x) => x.code.startsWith('stale-')).map((x) => x.message)).toEqual([]);
+      const r = await verify(args([fixed], defines), quiet);
+      const why = formatVerify(r, (p) => p);
+      expect(r.sameOutput, why).toBe(true);
+      expect(r.comparison.differences, why).toBe(0);
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }

@@ -21,7 +21,6 @@ import { startServer } from '../lsp';
 import { formatVerify, verify, verifyJson } from './verify';
 import { runTranslate } from './translate';
 import { runPort } from './port';
-import { translateDirectives } from '../core/translate';
 
 type Out = (s: string) => void;
 
@@ -50,7 +49,7 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
       case 'port':
         return await runPort(args, out, err);
       case 'verify': {
-        const r = await verify(args, (line) => err(`offload-ledger: ${line}`), (text, language, to) => translateDirectives(text, language, to));
+        const r = await verify(args, (line) => err(`offload-ledger: ${line}`));
         out(args.format === 'json' ? JSON.stringify(verifyJson(r), null, 2) : formatVerify(r, (p) => relative(process.cwd(), p).split(sep).join('/')));
         // 1 when the run failed, the builds disagree or a construct moved other bytes than predicted.
         const failed = r.separate.timedOut || r.separate.signal !== null || r.separate.status !== 0;

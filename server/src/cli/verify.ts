@@ -20,6 +20,7 @@ import { analyzeSource, buildModel, type FileAnalysis } from '../core/analyze';
 import { compareRun, type Comparison, type ConstructComparison } from '../core/verify/compare';
 import { MapLogReader, type MapLog } from '../core/verify/mapLog';
 import { compareOutputs } from '../core/verify/outputs';
+import { translateDirectives } from '../core/translate';
 import { loadGrammars } from '../grammars';
 import type { VerifyArgs } from './args';
 import { InputError, readHeader, readSource, type SourceFile } from './files';
@@ -159,8 +160,7 @@ async function verifyIn(
     let lineMap: ((n: number) => number) | undefined;
     const tNotes: string[] = [];
     if (families.has('openacc')) {
-      if (!translate) throw new InputError(`${s.path} uses OpenACC, which clang cannot build; translate it to OpenMP first`);
-      const t = translate(s.text, language, 'openmp');
+      const t = (translate ?? translateDirectives)(s.text, language, 'openmp');
       text = t.text;
       translated = t.changed > 0;
       lineMap = (n: number): number => (t.lineOrigin[n - 1] ?? n - 1) + 1;

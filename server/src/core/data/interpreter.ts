@@ -145,6 +145,8 @@ export class DataInterpreter {
   readonly findings: Finding[] = [];
   /** Quick-fix material for findings, kept beside them so the finding type stays plain. */
   readonly hints = new Map<Finding, FixHint>();
+  /** The last host write of each array while it is present, with where its update would go. */
+  private readonly lastHostWrite = new Map<string, { region: Region; hint: FixHint }>();
   /** Clause replacements for already-present findings (OpenACC: copy(...) → present(...)). */
   readonly presentFixes = new Map<Finding, { range: Range; text: string; directive: Directive }>();
   readonly runs: TimeLoopRun[] = [];
@@ -531,6 +533,13 @@ export class DataInterpreter {
       if (a.isWrite) {
         st.hostNewer = union(st.hostNewer, region);
         st.deviceNewer = subtract(st.deviceNewer, region);
+        // Where a fix for a later stale device read goes: right after this write, in this
+        // procedure, with the code's own index expressions (not numbers valid at one size).
+        const top = ctx.frame.depth === 0;
+        const touch: HostTouch = { key, kind: 'write', access: a, region, anchor: s, ancestors: [], loops: ctx.hostLoops, bindings: ctx.frame.bindings, rename: ctx.frame.rename };
+        const local = top && rangeWithin(a.range, (ctx.anchor ?? s).range) ? a.array : key;
+        const section = touchSectionText(touch, local, info, this.model.language, this.localBindings(ctx.frame));
+        if (section) this.lastHostWrite.set(key, { region, hint: { direction: 'toDevice', section, anchor: top ? ctx.anchor ?? s : s, ancestors: top ? ctx.ancestors : [], where: 'after' } });
       }
     }
   }
@@ -672,9 +681,14 @@ export class DataInterpreter {
         const f = this.finding('stale-on-device', d.range, key,
           `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; add \`update device\` (OpenACC) / \`target update to\` (OpenMP) for that slice after the host write.`, ctx.frame);
         if (f) {
-          const top = ctx.frame.depth === 0;
-          const section = regionSectionText(intersect(st.hostNewer, region), key, info, this.model.language);
-          this.hints.set(f, { direction: 'toDevice', section, anchor: top ? ctx.anchor ?? s : s, ancestors: top ? ctx.ancestors : [], where: 'before' });
+          const w = this.lastHostWrite.get(key);
+          if (w && overlaps(w.region, region) && covers(w.region, intersect(st.hostNewer, region))) {
+            this.hints.set(f, w.hint);
+          } else {
+            const top = ctx.frame.depth === 0;
+            const section = regionSectionText(intersect(st.hostNewer, region), key, info, this.model.language);
+            this.hints.set(f, { direction: 'toDevice', section, anchor: top ? ctx.anchor ?? s : s, ancestors: top ? ctx.ancestors : [], where: 'before' });
+          }
         }
         st.hostNewer = subtract(st.hostNewer, region);
       }

@@ -314,7 +314,8 @@ function attachCoherenceFixes(interp: DataInterpreter, model: ProgramModel, text
     const placed = updateLines(h.anchor, h.ancestors, text, model.language, family, h.direction, h.section, h.where);
     if (!placed) continue;
     const what = updateDirective(family, model.language, h.direction, h.section).replace(/^[#!]\S*\s+/, '');
-    f.fixes = [{ title: `Add \`${what}\` ${h.where} the ${h.direction === 'toHost' ? 'host code' : 'construct'}`, edits: lineEditsToTextEdits(placed.edits) }];
+    const place = h.direction === 'toHost' ? 'before the host code' : h.where === 'after' ? 'after the host write' : 'before the construct';
+    f.fixes = [{ title: `Add \`${what}\` ${place}`, edits: lineEditsToTextEdits(placed.edits) }];
   }
   for (const [f, p] of interp.presentFixes) {
     const fixes: Fix[] = [{ title: `Write \`${p.text}\`: the data is already on the device`, edits: [{ range: p.range, newText: p.text }] }];

@@ -21,13 +21,11 @@ export function codeActionsFor(view: DocumentView, params: CodeActionParams): Co
   const only = params.context.only;
   const wants = (kind: string): boolean => !only || only.some((k) => kind.startsWith(k) || k.startsWith(kind));
   const out: CodeAction[] = [];
-  if (wants(CodeActionKind.RefactorRewrite)) {
-    for (const r of view.refactors ?? []) {
-      if (!overlaps(r.range, params.range)) continue;
-      out.push({ title: r.title, kind: CodeActionKind.RefactorRewrite, edit: { changes: { [view.uri]: r.edits } } });
-    }
-  }
-  if (!wants(CodeActionKind.QuickFix)) return out;
+  // Quick fixes first, then the rewrites that fix no finding (port, translate).
+  const rewrites = (): CodeAction[] => (wants(CodeActionKind.RefactorRewrite) ? (view.refactors ?? []) : [])
+    .filter((r) => overlaps(r.range, params.range))
+    .map((r) => ({ title: r.title, kind: CodeActionKind.RefactorRewrite, edit: { changes: { [view.uri]: r.edits } } }));
+  if (!wants(CodeActionKind.QuickFix)) return rewrites();
   for (const a of view.actions) {
     const ours = view.diagnostics[a.diagnostic];
     const theirs = params.context.diagnostics.find((d) => sameDiagnostic(d, ours));
@@ -40,5 +38,5 @@ export function codeActionsFor(view: DocumentView, params: CodeActionParams): Co
       edit: { changes: { [view.uri]: a.edits } },
     });
   }
-  return out;
+  return [...out, ...rewrites()];
 }
