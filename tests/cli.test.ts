@@ -53,6 +53,18 @@ describe('offload-ledger check', () => {
     expect(bound.files[0].findings).toEqual([]);
   });
 
+  it('warns about a --bind that names nothing in the files checked (a typo is not ignored silently)', () => {
+    const f = join(tmp, 'bind2.c');
+    writeFileSync(f, 'void f(double *a, int n) {\n  for (int i = 0; i < n; i++) a[i] = 0.0;\n}\n');
+    const r = runCli(['check', '--bind', 'nn=4096', '--bind', 'n=8', f]);
+    expect(r.stderr).toMatch(/--bind nn=4096 names nothing in the files checked/);
+    expect(r.stderr).not.toMatch(/--bind n=8/);
+    // Fortran names match in any case: N binds n.
+    const g = join(tmp, 'bind.f90');
+    writeFileSync(g, 'subroutine s(a, n)\n  integer :: n, i\n  real(8) :: a(n)\n  do i = 1, n\n    a(i) = 0.0d0\n  end do\nend subroutine\n');
+    expect(runCli(['check', '--bind', 'N=64', g]).stderr).not.toMatch(/names nothing/);
+  });
+
   it('exits 1 when a finding has severity error', () => {
     const f = join(tmp, 'bad.c');
     writeFileSync(f, 'void f(double *a) {\n#pragma acc parallel loop copy(a[0:10]\n  for (int i = 0; i < 10; i++) a[i] = 0.0;\n}\n');

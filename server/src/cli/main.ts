@@ -83,6 +83,12 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);
   }
+  // A binding no file uses is most likely a typo: say so instead of ignoring it.
+  for (const name of args.bindings.keys()) {
+    if (analyses.length > 0 && analyses.every((a) => a.unmatchedBindings.includes(name))) {
+      err(`offload-ledger: --bind ${name}=${args.bindings.get(name)} names nothing in the files checked (no macro, constant, variable or trip-count symbol \`${name}\`${analyses.some((a) => a.language === 'fortran') ? '; Fortran names match in any case' : ''}); it is ignored`);
+    }
+  }
   if (args.command === 'plan') {
     const plans = planFiles(analyses, args);
     if (args.format === 'json') out(JSON.stringify({ ...report(analyses), planning: plans }, null, 2));

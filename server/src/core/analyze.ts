@@ -13,7 +13,7 @@ import { ownModelInWorkspace, withWorkspace } from './model/workspace';
 import { substituteIndexLocals } from './model/indexLocals';
 import { buildFortranModel } from './frontend/fortran';
 import { type DirectiveModel, preprocess } from './preprocessor';
-import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity } from './analysis/bindings';
+import { type BindingMap, type Quantity, callSiteBindings, procedureBindings, quantity, userKeys } from './analysis/bindings';
 import { type LoopNest, type RejectedLoop, type TimeLoop, nestIterations, scanLoops, unknownTripSymbol } from './analysis/nests';
 import { type NestCost, nestCost } from './cost/ledger';
 import { raceFindings } from './analysis/races';
@@ -104,6 +104,27 @@ export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps, settings: Pre
 }
 
 /**
+ * The user bindings that name nothing a figure could rest on: no macro, constant, variable,
+ * parameter, member path in a size or bound, or trip-count symbol of this file (Fortran names
+ * match in any case). A typo in `--bind` would otherwise be ignored silently.
+ */
+function unmatchedBindings(model: ProgramModel, user: ReadonlyMap<string, number>): string[] {
+  const names = new Set<string>(model.bindings.keys());
+  const addExpr = (e: S.Expr | undefined): void => { if (e) for (const x of S.freeSymbols(e)) names.add(x); };
+  for (const g of model.globals) { names.add(g.name); g.dims.forEach(addExpr); addExpr(g.elementCount); }
+  for (const p of model.procedures) {
+    for (const d of [...p.params, ...p.locals]) { names.add(d.name); d.dims.forEach(addExpr); addExpr(d.elementCount); }
+    for (const k of p.bindings.keys()) names.add(k);
+    walkStatements(p.body, (st) => {
+      if (st.kind !== 'loop') return;
+      if (st.tripSymbol) names.add(st.tripSymbol);
+      [st.lower, st.upper, st.step, st.tripCount].forEach(addExpr);
+    });
+  }
+  return [...user.keys()].filter((k) => !/^trips_l\d+$/i.test(k) && !userKeys(model, k).some((n) => names.has(n)));
+}
+
+/**
  * One core for serial code; the whole node when the code already runs in parallel on the host
  * (OpenMP `parallel`/`for`/`do`/`loop`/`taskloop` without `target`, Fortran `do concurrent`) or
  * offloads (a port compares with the node it replaces).
@@ -179,6 +200,8 @@ export interface FileAnalysis {
   baselineReason?: string;
   /** The port of the time loops that run on the host (`plans` per time loop, and the ported text). */
   port?: { text: string; naiveText: string };
+  /** User bindings (`--bind`) that name nothing in this file (the CLI warns when no file uses one). */
+  unmatchedBindings: string[];
 }
 
 export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
@@ -197,6 +220,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     findings: [],
     internalErrors: [],
     baseline,
+    unmatchedBindings: [],
   };
   try {
     const built = input.model ?? buildModel(input, deps, options);
@@ -265,6 +289,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate, ...(fixed[k] ? { withRegion: fixed[k]! } : {}) });
     }
     result.findings.push(...unknownExtentFindings(result));
+    if (options.bindings && options.bindings.size > 0) result.unmatchedBindings = unmatchedBindings(model, options.bindings);
     if (options.plans !== false && portable(result).length > 0) {
       const again = (text: string, what: boolean): FileAnalysis =>
         analyzeSource({ ...input, text, model: undefined }, deps, { ...options, baseline, plans: false, whatIf: what, programRun: false });
