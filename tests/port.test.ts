@@ -22,6 +22,8 @@ import { analyzeSource, type FileAnalysis } from '../server/src/core/analyze';
 import { languageOfPath } from '../server/src/core/language';
 import { readHeader } from '../server/src/cli/files';
 import { buildRefactors } from '../server/src/lsp/view/refactors';
+import { buildView } from '../server/src/lsp/view/build';
+import { codeActionsFor } from '../server/src/lsp/features/codeActions';
 import { ROOT, analyzeText, grammarsForTests, runCli } from './helpers';
 
 const tmp = mkdtempSync(join(tmpdir(), 'ol-port-'));
@@ -280,6 +282,20 @@ describe('offload-ledger port', () => {
     const w = runCli(['port', `${file}:13`, '--write']);
     expect(w.status, w.stderr).toBe(0);
     expect(readFileSync(file, 'utf8')).toBe(a.port!.text);
+  });
+
+  it('the editor offers the port at the time loop (a rewrite, not a fix) and the hover shows the plans', async () => {
+    const file = join(ROOT, 'tests/fixtures/port/heat_serial_2048.c');
+    const text = readFileSync(file, 'utf8');
+    const a = await analyzeText(text, file);
+    const view = buildView({ uri: 'file:///heat.c', version: 1, text, analysis: a, userBindings: new Map(), analysisMilliseconds: 0 },
+      { profileName: 'pcie4-hbm2e', baseline: 'auto', severity: {}, codeLens: true, inlayHints: true, docsHref: 'file:///docs' });
+    const at = { start: { line: 13, character: 4 }, end: { line: 13, character: 4 } };
+    const actions = codeActionsFor(view, { textDocument: { uri: view.uri }, range: at, context: { diagnostics: [] } });
+    expect(actions.map((x) => [x.kind, x.title.split(':')[0]])).toEqual([['refactor.rewrite', 'Port the time loops that run on the host to OpenACC']]);
+    // A request for the fixes of a diagnostic gets the fixes only.
+    expect(codeActionsFor(view, { textDocument: { uri: view.uri }, range: at, context: { diagnostics: [{ range: at, message: 'x' }] } })).toEqual([]);
+    expect(view.cards.join('\n')).toMatch(/\*\*Port plans\*\* \(OpenACC, before any directive is written; one-core baseline/);
   });
 
   it('refuses a file with syntax errors, naming the first', () => {

@@ -22,7 +22,10 @@ export function codeActionsFor(view: DocumentView, params: CodeActionParams): Co
   const wants = (kind: string): boolean => !only || only.some((k) => kind.startsWith(k) || k.startsWith(kind));
   const out: CodeAction[] = [];
   // Quick fixes first, then the rewrites that fix no finding (port, translate).
-  const rewrites = (): CodeAction[] => (wants(CodeActionKind.RefactorRewrite) ? (view.refactors ?? []) : [])
+  // Offered when the client asks for rewrites, or for the place itself (no diagnostic there): a
+  // request for the fixes of a diagnostic gets only the fixes.
+  const askedRewrite = !!only && only.some((k) => CodeActionKind.RefactorRewrite.startsWith(k) && k !== '');
+  const rewrites = (): CodeAction[] => (wants(CodeActionKind.RefactorRewrite) && (askedRewrite || params.context.diagnostics.length === 0) ? (view.refactors ?? []) : [])
     .filter((r) => overlaps(r.range, params.range))
     .map((r) => ({ title: r.title, kind: CodeActionKind.RefactorRewrite, edit: { changes: { [view.uri]: r.edits } } }));
   if (!wants(CodeActionKind.QuickFix)) return rewrites();
