@@ -93,9 +93,21 @@ export function collapseDepth(root: LoopStmt): number {
   }
 }
 
-/** The procedure whose body holds a statement. */
+/**
+ * The procedure whose body holds a statement: found by identity, since the model of a file seen
+ * with its workspace also holds other files' procedures, whose ranges are ranges of other files.
+ */
 function procedureOf(model: ProgramModel, s: Stmt): Procedure | undefined {
-  return model.procedures.find((p) => rangeWithin(s.range, p.range));
+  for (const p of model.procedures) {
+    if (!rangeWithin(s.range, p.range)) continue;
+    let found = false;
+    walkStatements(p.body, (x) => {
+      if (x === s) found = true;
+      return !found;
+    });
+    if (found) return p;
+  }
+  return undefined;
 }
 
 function lookup(model: ProgramModel, proc: Procedure, name: string): Declaration | undefined {
@@ -124,10 +136,11 @@ export function chooseNests(analysis: FileAnalysis, tl: TimeLoopReport, family: 
     const root = e.stmt;
     if (root.kind !== 'loop' || seen.has(root)) continue;
     seen.add(root);
-    const proc = procedureOf(model, root);
+    const nest = [...analysis.nests, ...analysis.externalNests].find((n) => n.nest.root === root)?.nest;
+    const proc = nest?.procedure ?? procedureOf(model, root);
     const line = root.keywordRange.start.line + 1;
-    const leave = (reason: string): void => { host.push({ line, procedure: proc?.name ?? '?', reason }); };
-    if (!proc || proc.origin) { leave('it is in another file; port it there'); continue; }
+    const leave = (reason: string): void => { host.push({ line, procedure: proc?.name ?? 'a procedure of another file', reason }); };
+    if (!proc || proc.origin) { leave(`it is in ${proc?.origin ? `another file (${proc.origin.split(/[\\/]/).pop()})` : 'another file'}; a port writes directives in the file of the time loop only, so port it there`); continue; }
     const why = hostReason(model, proc, root, family);
     if (why) { leave(why); continue; }
     const data = dataClauses(model, proc, root, e, ledger.infoOf, family);
