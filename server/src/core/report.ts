@@ -149,9 +149,17 @@ export function machineJson(p: MachineProfile): Record<string, unknown> {
   return { name: p.name, host: p.host, device: p.device, link: p.link };
 }
 
+/** The models behind every time and speedup figure, said once wherever figures are shown. */
+export const ESTIMATE_MODEL = 'roofline per loop nest (bytes and flops against the profile\'s bandwidths and peaks, layer conditions for reuse); step time = device kernels + launches + link transfers + host code left in the loop; low/high from documented efficiency bounds (docs/cost-model.md)';
+export const ESTIMATE_CAUTION = 'Estimates, not measurements: the profile\'s figures are a technology class, not your machine. Measure on the target machine to decide; `offload-ledger verify` measures the bytes with separate memories.';
+
 export function report(analyses: FileAnalysis[]): Record<string, unknown> {
   const machine = analyses[0]?.profile;
-  return { tool: { name: TOOL_NAME, version: TOOL_VERSION }, ...(machine ? { machine: machineJson(machine) } : {}), files: analyses.map(fileReport) };
+  return {
+    tool: { name: TOOL_NAME, version: TOOL_VERSION }, ...(machine ? { machine: machineJson(machine) } : {}),
+    estimates: { model: ESTIMATE_MODEL, ...(machine ? { profile: machine.name } : {}), caution: ESTIMATE_CAUTION },
+    files: analyses.map(fileReport),
+  };
 }
 
 export function jsonQuantity(q: Quantity): JsonQuantity {

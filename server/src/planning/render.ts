@@ -100,6 +100,14 @@ function machineText(m: PlanningMachine): string {
   return `<ul class="machine">${items.map((i) => `<li>${i}</li>`).join('')}</ul>`;
 }
 
+/** A speedup shown beside errors in its loop (stale data, races) says that the figure rests on a program that is wrong. */
+function errorsNote(f: PlanningFile, t: ReportTimeLoop): string {
+  const errors = (f.findings ?? []).filter((x) => x.severity === 'error' && x.line >= t.line && x.line <= t.endLine);
+  if (errors.length === 0) return '';
+  const codes = [...new Set(errors.map((x) => x.code))].join(', ');
+  return ` <small class="warn">with ${errors.length} error${errors.length === 1 ? '' : 's'} in the loop (${esc(codes)}): the program is wrong until they are fixed</small>`;
+}
+
 function timeLoopsTable(ctx: Ctx, rows: TimeLoopRow[]): string {
   const head = ['', 'time loop', 'steps', 'host only', 'as written', 'speedup as written', 'bound by', 'with the suggested region', 'speedup with region', 'bound by', 'link bytes per step'];
   const body = rows.map((r) => {
@@ -115,7 +123,7 @@ function timeLoopsTable(ctx: Ctx, rows: TimeLoopRow[]): string {
       td(esc(quantityText(r.t.steps, false))),
       td(seconds(e?.hostSeconds)),
       td(seconds(e?.deviceSeconds)),
-      td(speedup(e?.speedup)),
+      td(`${speedup(e?.speedup)}${errorsNote(r.file, r.t)}`),
       td(esc(bound(e?.bound))),
       td(`${seconds(after?.deviceSeconds)}${plan && !e?.withRegion ? ' <small>(port plan 2)</small>' : ''}`),
       td(speedup(after?.speedup ?? undefined)),

@@ -27,10 +27,12 @@ function table(rows: [string, string][]): string {
 function assumptions(ctx: ViewContext, symbols: [string, number | undefined][], s: CardSettings, estimated: boolean): string {
   const bound = symbols.filter(([, v]) => v !== undefined).map(([k, v]) => `${k} = ${v!.toLocaleString('en-US')}${[...ctx.userBindings.keys()].some((u) => userKeys(ctx.analysis.model, u).includes(k)) ? ' (setting)' : ''}`);
   const unbound = symbols.filter(([, v]) => v === undefined).map(([k]) => `\`${k}\``);
-  const parts = [estimated ? `profile \`${s.profileName}\`, baseline ${s.baseline === 'core' ? 'one host core' : 'the whole host node'}` : `no machine estimate in this version (profile \`${s.profileName}\` selected)`];
+  // The baseline the analysis used (the setting may be `auto`: one core for serial code).
+  const baseline = ctx.analysis.baseline;
+  const parts = [estimated ? `profile \`${s.profileName}\`, baseline ${baseline === 'core' ? 'one host core' : 'the whole host node'}${ctx.analysis.baselineReason ? ` (${ctx.analysis.baselineReason.split(':')[0]})` : ''}` : `no machine estimate in this version (profile \`${s.profileName}\` selected)`];
   if (bound.length > 0) parts.push(`sizes ${bound.join(', ')}`);
   if (unbound.length > 0) parts.push(`unbound ${unbound.join(', ')} (bind with \`offloadLedger.sizeBindings\`)`);
-  return `*Assumptions:* ${parts.join('; ')}.`;
+  return `*Assumptions:* ${parts.join('; ')}.${estimated ? ' _Estimates from the roofline and step models with efficiency bounds; measure on the target machine to decide._' : ''}`;
 }
 
 export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: ViewContext, s: CardSettings): string {

@@ -1,0 +1,38 @@
+/**
+ * One caution wherever a figure is shown (issue: say what you know): the JSON report names the
+ * models and the caution, the hover says the baseline the analysis used and that measurement
+ * decides, and the planning report marks a speedup that rests on a program with errors.
+ */
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { buildView } from '../server/src/lsp/view/build';
+import { ROOT, analyzeFile, runCli, schemaValidator } from './helpers';
+
+describe('cautions', () => {
+  it('the JSON report says what the estimates rest on, and that measurement decides', () => {
+    const r = runCli(['check', '--format', 'json', join(ROOT, 'examples/heat2d/heat2d_acc.c')]);
+    const j = JSON.parse(r.stdout);
+    expect(schemaValidator()(j).ok).toBe(true);
+    expect(j.estimates.model).toMatch(/roofline per loop nest/);
+    expect(j.estimates.profile).toBe('pcie4-hbm2e');
+    expect(j.estimates.caution).toMatch(/Measure on the target machine to decide/);
+  });
+
+  it('the hover gives the baseline the analysis used (one core for serial code) and the caution', async () => {
+    const file = join(ROOT, 'examples/serial/heat2d_serial.c');
+    const a = await analyzeFile(file);
+    const view = buildView({ uri: 'file:///h.c', version: 1, text: '', analysis: a, userBindings: new Map(), analysisMilliseconds: 0 },
+      { profileName: 'pcie4-hbm2e', baseline: 'auto', severity: {}, codeLens: false, inlayHints: false, docsHref: 'file:///docs' });
+    const cards = view.cards.join('\n');
+    expect(cards).toMatch(/baseline one host core \(serial code\)/);
+    expect(cards).toMatch(/measure on the target machine to decide/);
+    expect(cards).not.toMatch(/the whole host node/);
+  });
+
+  it('the planning report marks a speedup that rests on a loop with errors', () => {
+    const html = runCli(['check', '--format', 'html', join(ROOT, 'examples/hall/hall_stale_acc.c')]).stdout;
+    expect(html).toMatch(/with 2 errors in the loop \(stale-on-host\): the program is wrong until they are fixed/);
+    const clean = runCli(['check', '--format', 'html', join(ROOT, 'examples/hall/hall_resident_acc.c')]).stdout;
+    expect(clean).not.toMatch(/errors? in the loop/);
+  });
+});
