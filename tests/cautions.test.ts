@@ -29,6 +29,23 @@ describe('cautions', () => {
     expect(cards).not.toMatch(/the whole host node/);
   });
 
+  it('the suggested region is always shown with the updates host code needs (text and planning report)', () => {
+    const file = join(ROOT, 'examples/hall/hall_naive_acc.c');
+    const text = runCli(['check', file]).stdout;
+    expect(text).toMatch(/plus 4 updates for host code in the loop\n {6}with, before line 132: #pragma acc update self\(p\[NX\*NY\*SZ \+ NX\*SY \+ SX:1\]\)/);
+    const html = runCli(['check', '--format', 'html', file]).stdout;
+    expect(html).toMatch(/With these updates for host code in the loop:<\/p><ul><li>before line 132: <code>#pragma acc update self/);
+  });
+
+  it('a message asks for the update of the file\'s own model, citing its own standard', async () => {
+    const omp = await analyzeFile(join(ROOT, 'tests/fixtures/verify/host_boundary_omp.c'));
+    const m = omp.findings.find((f) => f.code === 'stale-on-device')!.message;
+    expect(m).toMatch(/`target update to` \(OpenMP 5\.2 §13\.9\)/);
+    expect(m).not.toMatch(/OpenACC/);
+    const acc = await analyzeFile(join(ROOT, 'examples/hall/hall_stale_acc.c'));
+    for (const f of acc.findings.filter((x) => x.code.startsWith('stale-'))) expect(f.message).not.toMatch(/OpenMP/);
+  });
+
   it('the planning report marks a speedup that rests on a loop with errors', () => {
     const html = runCli(['check', '--format', 'html', join(ROOT, 'examples/hall/hall_stale_acc.c')]).stdout;
     expect(html).toMatch(/with 2 errors in the loop \(stale-on-host\): the program is wrong until they are fixed/);

@@ -102,6 +102,8 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
   if (r) {
     const directive = r.edits.find((e) => /\b(data)\b/.test(e.text))?.text.trim();
     out.push(`    suggested data region: ${directive ?? r.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' ')}${r.updates.length > 0 ? ` plus ${r.updates.length} update${r.updates.length === 1 ? '' : 's'} for host code in the loop` : ''}`);
+    // The region needs its updates: pasting the region alone would leave host code reading stale data.
+    for (const e of r.edits) if (/\bupdate\b/.test(e.text)) out.push(`      with, before line ${e.line}: ${e.text.trim()}`);
     for (const n of r.notes) out.push(`    note: ${n}`);
   }
   return out;

@@ -100,6 +100,13 @@ function machineText(m: PlanningMachine): string {
   return `<ul class="machine">${items.map((i) => `<li>${i}</li>`).join('')}</ul>`;
 }
 
+/** The updates a suggested region needs, with where they go: the region alone would leave host code reading stale data. */
+function updatesList(edits: { line: number; text: string }[]): string {
+  const ups = edits.filter((e) => /\bupdate\b/.test(e.text));
+  if (ups.length === 0) return '';
+  return `<p>With ${ups.length === 1 ? 'this update' : 'these updates'} for host code in the loop:</p><ul>${ups.map((e) => `<li>before line ${e.line}: <code>${esc(e.text.trim())}</code></li>`).join('')}</ul>`;
+}
+
 /** A speedup shown beside errors in its loop (stale data, races) says that the figure rests on a program that is wrong. */
 function errorsNote(f: PlanningFile, t: ReportTimeLoop): string {
   const errors = (f.findings ?? []).filter((x) => x.severity === 'error' && x.line >= t.line && x.line <= t.endLine);
@@ -265,7 +272,7 @@ async function timeLoopSection(ctx: Ctx, f: PlanningFile, r: TimeLoopRow, focuse
   }
   if (e?.runsPerDevice != null) rows.push(['independent runs per device', String(e.runsPerDevice)]);
   const region = t.dataRegion
-    ? `<p>Suggested data region: <code>${esc(t.dataRegion.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' '))}</code>${t.dataRegion.edits.length > 0 ? ` (${t.dataRegion.edits.length} line${t.dataRegion.edits.length === 1 ? '' : 's'} to insert; the quick fix on the finding applies them)` : ''}</p>`
+    ? `<p>Suggested data region: <code>${esc(t.dataRegion.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' '))}</code>${t.dataRegion.edits.length > 0 ? ` (${t.dataRegion.edits.length} line${t.dataRegion.edits.length === 1 ? '' : 's'} to insert; the quick fix on the finding applies them)` : ''}</p>${updatesList(t.dataRegion.edits)}`
     : '';
   let figure = '';
   if (chart) {

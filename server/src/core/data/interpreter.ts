@@ -9,7 +9,7 @@ import * as S from '../symbolic';
 import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { isDataConstruct, isOffloadCompute } from '../model/directives';
 import { accessesOfStatement, childStatements, forEachAccessInValue, forEachCallInValue, printValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
-import type { Directive, Finding, Range } from '../types';
+import type { Directive, Finding, Range, DirectiveFamily } from '../types';
 import { rangeWithin } from '../ranges';
 import { type ArrayInfo, arrayInfo } from './arrays';
 import { type DataEntry, dataEntries, defaultMode, motionEntries, privateNames } from './clauses';
@@ -145,6 +145,23 @@ export class DataInterpreter {
   readonly findings: Finding[] = [];
   /** Quick-fix material for findings, kept beside them so the finding type stays plain. */
   readonly hints = new Map<Finding, FixHint>();
+  /** The update a message asks for, in the model the file (or the construct) uses. */
+  private updateWords(direction: 'toHost' | 'toDevice', family?: DirectiveFamily): string {
+    const f = family ?? this.family();
+    if (f === 'openacc') return direction === 'toHost' ? 'add `update self` (OpenACC 3.3 §2.14.4)' : 'add `update device` (OpenACC 3.3 §2.14.4)';
+    return direction === 'toHost' ? 'add `target update from` (OpenMP 5.2 §13.9)' : 'add `target update to` (OpenMP 5.2 §13.9)';
+  }
+
+  private familyMemo?: DirectiveFamily;
+  private family(): DirectiveFamily {
+    if (!this.familyMemo) {
+      const acc = this.model.directives.filter((d) => d.family === 'openacc').length;
+      const omp = this.model.directives.filter((d) => d.family === 'openmp' && d.construct.startsWith('target')).length;
+      this.familyMemo = omp > acc ? 'openmp' : 'openacc';
+    }
+    return this.familyMemo;
+  }
+
   /** The last host write of each array while it is present, with where its update would go. */
   private readonly lastHostWrite = new Map<string, { region: Region; hint: FixHint }>();
   /** Clause replacements for already-present findings (OpenACC: copy(...) → present(...)). */
@@ -521,7 +538,7 @@ export class DataInterpreter {
       if (!st.present) continue;
       if (a.isRead && overlaps(st.deviceNewer, region)) {
         const f = this.finding('stale-on-host', a.range, key,
-          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; add \`update self\` (OpenACC) / \`target update from\` (OpenMP) for that slice just before this line.`, ctx.frame);
+          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; ${this.updateWords('toHost')} for that slice just before this line.`, ctx.frame);
         if (f) {
           const top = ctx.frame.depth === 0;
           const touch: HostTouch = { key, kind: 'read', access: a, region, anchor: s, ancestors: [], loops: ctx.hostLoops, bindings: ctx.frame.bindings, rename: ctx.frame.rename };
@@ -679,7 +696,7 @@ export class DataInterpreter {
       if (st.present && overlaps(st.hostNewer, region)) {
         const info = this.info(key, ctx.frame, localName(key, ctx.frame));
         const f = this.finding('stale-on-device', d.range, key,
-          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; add \`update device\` (OpenACC) / \`target update to\` (OpenMP) for that slice after the host write.`, ctx.frame);
+          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; ${this.updateWords('toDevice', d.family)} for that slice after the host write.`, ctx.frame);
         if (f) {
           const w = this.lastHostWrite.get(key);
           if (w && overlaps(w.region, region) && covers(w.region, intersect(st.hostNewer, region))) {

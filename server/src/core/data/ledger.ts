@@ -116,7 +116,7 @@ export function dataLedger(
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
-      const fromTransfers = transferFindings(ledger, bindings, model.path);
+      const fromTransfers = transferFindings(ledger, bindings, model.path, familyIn(run.loop, family));
       for (const f of fromTransfers) if (regionFix && (f.code === 'implicit-transfer' || f.severity === 'warning')) f.fixes = [regionFix];
       findings.push(...fromTransfers, ...widerUpdateFindings(ledger, interp, model), ...memoryFindings(ledger, options));
     }
@@ -162,7 +162,7 @@ function perStepQuantity(ts: TransferRecord[], bindings: ReadonlyMap<string, S.E
 }
 
 /** One finding per (directive, array): both directions of a copy in one sentence. */
-function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string): Finding[] {
+function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string, family: DirectiveFamily): Finding[] {
   const groups = new Map<string, TransferReport[]>();
   for (const t of l.transfers) {
     const id = `${t.origin ?? ''}:${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
@@ -193,7 +193,7 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
       const n = ts.length;
       out.push({
         code: 'transfer-in-time-loop', severity: 'info', range: place(t0.range), array: t0.array,
-        message: `The scalar \`${t0.array}\`${sizeText} is ${how} ${every} by this construct (a reduction result or a scalar it writes; OpenACC 3.3 §2.6.2, OpenMP 5.2 §5.8.1)${via}: ${amounts} in ${n} blocking transfer${n === 1 ? '' : 's'}. Few bytes, but each waits for the link's latency; where the host needs the value only now and then, keep it on the device and update it when needed.`,
+        message: `The scalar \`${t0.array}\`${sizeText} is ${how} ${every} by this construct (a reduction result or a scalar it writes; ${family === 'openacc' ? 'OpenACC 3.3 §2.6.2' : 'OpenMP 5.2 §5.8.1'})${via}: ${amounts} in ${n} blocking transfer${n === 1 ? '' : 's'}. Few bytes, but each waits for the link's latency; where the host needs the value only now and then, keep it on the device and update it when needed.`,
       });
     } else if (t0.cause === 'implicit') {
       out.push({
