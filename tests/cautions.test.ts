@@ -46,6 +46,14 @@ describe('cautions', () => {
     for (const f of acc.findings.filter((x) => x.code.startsWith('stale-'))) expect(f.message).not.toMatch(/OpenMP/);
   });
 
+  it('race messages write elements as the language does: u(i - 1) in Fortran', async () => {
+    const f = await analyzeFile(join(ROOT, 'tests/fixtures/dependences/textbook_acc.f90'));
+    const races = f.findings.filter((x) => x.code === 'loop-carried-dependence');
+    expect(races.length).toBeGreaterThan(0);
+    for (const r of races) expect(r.message).not.toMatch(/\w\[[^\]]*\]/);
+    expect(races.some((r) => /`a\(i - 1\)`/.test(r.message))).toBe(true);
+  });
+
   it('the planning report marks a speedup that rests on a loop with errors', () => {
     const html = runCli(['check', '--format', 'html', join(ROOT, 'examples/hall/hall_stale_acc.c')]).stdout;
     expect(html).toMatch(/with 2 errors in the loop \(stale-on-host\): the program is wrong until they are fixed/);

@@ -386,7 +386,7 @@ class NestContext {
         : (perGang ? 'one copy per gang, shared by the workers and vector lanes that run the iterations' : 'copied to one device copy that every gang, worker and vector lane shares (OpenACC 3.3 §2.6.2)');
       findings.push({
         code: 'missing-private', severity: 'warning', range: a.range, array: a.array,
-        message: `Each iteration of this parallel \`${loop.variable}\` loop writes \`${a.array}[${a.subscriptText.join('][')}]\` and then reads it back, the same elements in every iteration: per-iteration scratch. \`${a.array}\` is declared outside the loop and ${where}, so iterations overwrite each other's values. Add \`private(${a.array})\` to the directive${this.fortran ? '' : `, or declare \`${a.array}\` inside the loop`}${fix ? ' (quick fix available)' : ''}.`,
+        message: `Each iteration of this parallel \`${loop.variable}\` loop writes \`${this.fortran ? `${a.array}(${a.subscriptText.join(', ')})` : `${a.array}[${a.subscriptText.join('][')}]`}\` and then reads it back, the same elements in every iteration: per-iteration scratch. \`${a.array}\` is declared outside the loop and ${where}, so iterations overwrite each other's values. Add \`private(${a.array})\` to the directive${this.fortran ? '' : `, or declare \`${a.array}\` inside the loop`}${fix ? ' (quick fix available)' : ''}.`,
         fixes: fix ? [fix] : undefined,
       });
     });

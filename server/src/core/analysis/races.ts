@@ -34,7 +34,12 @@ import type { LoopNest } from './nests';
 import { accumulation, privateFindings, type PrivateFindings } from './privates';
 import { solveDistances, type Distance } from './distances';
 
+/** Elements are written as the language writes them: `u[j][i]` in C, `u(i, j)` in Fortran. */
+let fortranText = false;
+const elementText = (array: string, subscripts: readonly string[]): string => (fortranText ? `${array}(${subscripts.join(', ')})` : `${array}[${subscripts.join('][')}]`);
+
 export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>): Finding[] {
+  fortranText = model.language === 'fortran';
   const out: Finding[] = [];
   for (const nest of nests) {
     if (!nest.offload) continue;
@@ -507,8 +512,8 @@ function boundedCarrier(w: Ref, x: Ref, parallel: Set<LoopStmt>, bindings: Reado
 
 function boundedMessage(array: string, w: Ref, x: Ref, c: Bounded): Finding {
   const v = c.loop.variable ?? '?';
-  const wText = `${array}[${w.access.subscriptText.join('][')}]`;
-  const xText = `${array}[${x.access.subscriptText.join('][')}]`;
+  const wText = elementText(array, w.access.subscriptText);
+  const xText = elementText(array, x.access.subscriptText);
   const names = c.loops.map((l) => l.variable).join(', ');
   const steps = c.shown.map((d) => (d.startsWith('-') ? d : `+${d}`)).join(', ');
   const touch = c.kind === 'output'
@@ -523,8 +528,8 @@ function boundedMessage(array: string, w: Ref, x: Ref, c: Bounded): Finding {
 
 function message(array: string, w: Ref, x: Ref, c: Carried): Finding {
   const v = c.loop.variable ?? '?';
-  const wText = `${array}[${w.access.subscriptText.join('][')}]`;
-  const xText = `${array}[${x.access.subscriptText.join('][')}]`;
+  const wText = elementText(array, w.access.subscriptText);
+  const xText = elementText(array, x.access.subscriptText);
   const what = c.kind === 'flow'
     ? `iteration ${v} reads \`${xText}\`, which iteration ${v} - ${c.distance} writes as \`${wText}\``
     : c.kind === 'anti'
