@@ -538,7 +538,7 @@ export class DataInterpreter {
       if (!st.present) continue;
       if (a.isRead && overlaps(st.deviceNewer, region)) {
         const f = this.finding('stale-on-host', a.range, key,
-          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info)} since the last transfer to the host, so this reads stale data; ${this.updateWords('toHost')} for that slice just before this line.`, ctx.frame);
+          `Host code reads \`${a.array}\` here, but the device wrote ${describe(st.deviceNewer, region, info, ctx.frame.bindings, ctx.hostLoops)} since the last transfer to the host, so this reads stale data; ${this.updateWords('toHost')} for that slice just before this line.`, ctx.frame);
         if (f) {
           const top = ctx.frame.depth === 0;
           const touch: HostTouch = { key, kind: 'read', access: a, region, anchor: s, ancestors: [], loops: ctx.hostLoops, bindings: ctx.frame.bindings, rename: ctx.frame.rename };
@@ -696,7 +696,7 @@ export class DataInterpreter {
       if (st.present && overlaps(st.hostNewer, region)) {
         const info = this.info(key, ctx.frame, localName(key, ctx.frame));
         const f = this.finding('stale-on-device', d.range, key,
-          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info)} since the last transfer to the device, so the device computes with stale data; ${this.updateWords('toDevice', d.family)} for that slice after the host write.`, ctx.frame);
+          `This construct reads \`${localName(key, ctx.frame)}\` on the device, but host code wrote ${describe(st.hostNewer, region, info, ctx.frame.bindings)} since the last transfer to the device, so the device computes with stale data; ${this.updateWords('toDevice', d.family)} for that slice after the host write.`, ctx.frame);
         if (f) {
           const w = this.lastHostWrite.get(key);
           if (w && overlaps(w.region, region) && covers(w.region, intersect(st.hostNewer, region))) {
@@ -1035,11 +1035,19 @@ function deviceRanges(s: Stmt, bindings: ReadonlyMap<string, S.Expr>): LoopRange
 }
 
 /** "element 4,802,003" or "12,000 elements of it" for messages about stale slices. */
-function describe(newer: Region, touched: Region, info: ArrayInfo): string {
+function describe(newer: Region, touched: Region, info: ArrayInfo, bindings?: ReadonlyMap<string, S.Expr>, loops: readonly LoopStmt[] = []): string {
   const n = regionSize(covers(newer, touched) ? touched : newer.filter((b) => overlaps([b], touched)));
   if (n === 1) return 'that element';
-  // A region whose size rests on an unbound extent has no count worth printing.
-  if (!Number.isFinite(n) || n >= 2 ** 48) return 'elements read here (how many depends on sizes the tool cannot bind)';
+  // A region whose size rests on an unbound extent has no count worth printing: name the sizes
+  // and the binding that decides it.
+  if (!Number.isFinite(n) || n >= 2 ** 48) {
+    const sizes = [info.elementCount, ...loops.map((l) => l.tripCount)].filter((e): e is S.Expr => !!e);
+    const loopVars = new Set(loops.map((l) => l.variable));
+    const open = [...new Set(sizes.flatMap((e) => S.freeSymbols(e)))].filter((x) => !loopVars.has(x) && (!bindings || S.evaluate(S.sym(x), bindings) === undefined));
+    return open.length > 0
+      ? `elements read here (how many depends on ${open.map((x) => `\`${x}\``).join(', ')}, which the tool cannot bind; \`--bind ${open[0]}=VALUE\` decides it)`
+      : 'elements read here (how many depends on sizes the tool cannot bind)';
+  }
   return `${n.toLocaleString('en-US')} of the elements read here (${(n * info.elementBytes).toLocaleString('en-US')} bytes)`;
 }
 
