@@ -40,7 +40,7 @@ int main(void) {
   return dir;
 }
 
-interface JsonFinding { code: string; line: number; column: number; message: string }
+interface JsonFinding { code: string; line: number; column: number; message: string; related?: { path: string; line: number; message: string }[] }
 const filesOf = (stdout: string): Record<string, JsonFinding[]> =>
   Object.fromEntries(JSON.parse(stdout).files.map((f: { path: string; findings: JsonFinding[] }) => [f.path.split('/').pop(), f.findings]));
 
@@ -55,6 +55,11 @@ describe('the CLI reports a callee transfer in both files', () => {
       expect(f.message).toMatch(/^From the time loop in main\.c \(the call at line 10\): `(bz|src)` \(32\.0 KiB\) is copied/);
       expect(f.message).toContain('(quick fix available in main.c)');
       expect(f.message).not.toContain('reached from this call');
+      // The JSON carries the other end too: the call in main.c.
+      expect(f.related?.map((r) => `${r.path.split('/').pop()}:${r.line}`)).toEqual(['main.c:10']);
+    }
+    for (const f of files['main.c'].filter((x) => x.code === 'transfer-in-time-loop')) {
+      expect(f.related?.map((r) => `${r.path.split('/').pop()}:${r.line}`)).toEqual(['kernels.c:3']);
     }
   });
 
@@ -89,9 +94,24 @@ const related = {
     },
   },
 };
+// §3.36 codeFlow: threadFlows (§3.36.3) is a required array of threadFlow objects; §3.37 threadFlow:
+// locations (§3.37.6) a required array of threadFlowLocation objects; §3.38 threadFlowLocation:
+// location (§3.38.3), a location object (from memory).
+const codeFlows = {
+  type: 'array', minItems: 1,
+  items: {
+    type: 'object', required: ['threadFlows'],
+    properties: {
+      threadFlows: {
+        type: 'array', minItems: 1,
+        items: { type: 'object', required: ['locations'], properties: { locations: { type: 'array', minItems: 2, items: { type: 'object', required: ['location'], properties: { location: { type: 'object', required: ['physicalLocation'] } } } } } },
+      },
+    },
+  },
+};
 const sarifSchema = {
   type: 'object', required: ['version', 'runs'],
-  properties: { runs: { type: 'array', items: { type: 'object', required: ['tool', 'results'], properties: { results: { type: 'array', items: { type: 'object', required: ['message', 'locations'], properties: { relatedLocations: related } } } } } } },
+  properties: { runs: { type: 'array', items: { type: 'object', required: ['tool', 'results'], properties: { results: { type: 'array', items: { type: 'object', required: ['message', 'locations'], properties: { relatedLocations: related, codeFlows } } } } } } },
 };
 
 interface SarifResult {
@@ -120,6 +140,11 @@ describe('SARIF relatedLocations', () => {
           expect(back.some((x) => to(x).includes(at(r)))).toBe(true);
         }
         for (const [k, l] of (r.relatedLocations ?? []).entries()) expect(l.id).toBe(k);
+        // The code flow runs from the call in the time loop to the construct: it holds both ends.
+        const flow = (r as SarifResult & { codeFlows: { threadFlows: { locations: { location: { physicalLocation: { artifactLocation: { uri: string }; region: { startLine: number } } } }[] }[] }[] }).codeFlows[0].threadFlows[0].locations
+          .map((l) => `${l.location.physicalLocation.artifactLocation.uri.split('/').pop()}:${l.location.physicalLocation.region.startLine}`);
+        expect(flow).toContain(at(r));
+        for (const target of to(r)) expect(flow).toContain(target);
       }
     });
   }

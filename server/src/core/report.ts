@@ -177,6 +177,8 @@ export function jsonFinding(f: Finding): Record<string, unknown> {
     message: f.message,
   };
   if (f.array) out.array = f.array;
+  // The other end of a finding that spans two files (the call in the time loop, the directive in the callee).
+  if (f.related && f.related.length > 0) out.related = f.related.map((r) => ({ path: r.path, line: r.range.start.line + 1, column: r.range.start.col + 1, message: r.message }));
   return out;
 }
 

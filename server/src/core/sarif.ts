@@ -37,6 +37,15 @@ export function sarifLog(analyses: FileAnalysis[], uriOf: (path: string) => stri
           physicalLocation: { artifactLocation: { uri: uriOf(r.path) }, region: region(r.range) },
           message: { text: r.message },
         }));
+        // §3.36 codeFlows: the path from the time loop to the directive, as one thread flow
+        // (§3.37, §3.38): the call in the time loop first, then the construct that moves the data.
+        const here = { location: { physicalLocation: { artifactLocation: { uri }, region: region(f.range) }, message: { text: 'this finding' } } };
+        const others = f.related.map((r) => ({ location: { physicalLocation: { artifactLocation: { uri: uriOf(r.path) }, region: region(r.range) }, message: { text: r.message } } }));
+        const atCallee = f.related.some((r) => /^the call in the time loop/.test(r.message));
+        result.codeFlows = [{
+          message: { text: 'from the time loop to the construct' },
+          threadFlows: [{ locations: atCallee ? [...others, here] : [here, ...others] }],
+        }];
       }
       if (f.fixes && f.fixes.length > 0) {
         result.fixes = f.fixes.map((fix) => ({
