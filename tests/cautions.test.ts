@@ -3,6 +3,8 @@
  * models and the caution, the hover says the baseline the analysis used and that measurement
  * decides, and the planning report marks a speedup that rests on a program with errors.
  */
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { buildView } from '../server/src/lsp/view/build';
@@ -52,6 +54,28 @@ describe('cautions', () => {
     expect(races.length).toBeGreaterThan(0);
     for (const r of races) expect(r.message).not.toMatch(/\w\[[^\]]*\]/);
     expect(races.some((r) => /`a\(i - 1\)`/.test(r.message))).toBe(true);
+  });
+
+  it('nothing is silently zero: an indirect subscript and an unknown call are listed with what they do, and the nest is marked', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'ol-nu-'));
+    try {
+      const f = join(dir, 'nu.c');
+      writeFileSync(f, [
+        '#define N 1000', 'double g(double);', 'static double u[N], v[N], w[N];', 'static int idx[N];', 'int main(void) {',
+        '  for (int t = 0; t < 10; t++) {', '#pragma acc parallel loop', '    for (int i = 0; i < N; i++) v[i] = u[idx[i]] + g(w[i]);',
+        '#pragma acc parallel loop', '    for (int i = 0; i < N; i++) u[i] = v[i];', '  }', '  return 0;', '}', '',
+      ].join('\n'));
+      const text = runCli(['check', f]).stdout;
+      expect(text).toMatch(/^ {2}8\? +main/m);
+      expect(text).toMatch(/^ {2}10 +main/m);
+      expect(text).toMatch(/not understood \(line 8, .*\): the call `g\(…\)`: .*0 flops/);
+      expect(text).toMatch(/not understood \(line 8, .*\): `u\[idx\[i\]\]`: the subscript is not affine in `i`/);
+      const j = JSON.parse(runCli(['check', '--format', 'json', f]).stdout);
+      expect(schemaValidator()(j).ok).toBe(true);
+      expect(j.files[0].notUnderstood.map((x: { kind: string; nestLine: number }) => `${x.kind}@${x.nestLine}`)).toEqual(['call@8', 'subscript@8']);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 
   it('the planning report marks a speedup that rests on a loop with errors', () => {

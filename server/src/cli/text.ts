@@ -24,10 +24,13 @@ export function formatFile(a: FileAnalysis): string {
     lines.push('  no loop nests found');
   } else {
     const rows = [['line', 'function', 'variables', 'offloaded', 'flop/it', 'B/it dev', 'B/it host', 'AI dev', 'AI host', 'kernel speedup', 'iterations']];
+    // A nest whose figures rest on something the model could not read is marked `?` (listed below).
+    const unread = new Set(a.notUnderstood.map((x) => x.nestLine));
     for (const r of a.nests) {
       const n = r.nest;
+      const mark = unread.has(n.root.keywordRange.start.line + 1) ? '?' : '';
       rows.push([
-        String(n.root.keywordRange.start.line + 1),
+        String(n.root.keywordRange.start.line + 1) + mark,
         n.procedure.name,
         nestVariablesText(n.variables),
         n.offload ? `yes (${n.offload.family})` : 'no',
@@ -52,6 +55,7 @@ export function formatFile(a: FileAnalysis): string {
     for (const x of t.timeLoop.procedure.assumptions ?? []) assumed.set(x, [...(assumed.get(x) ?? []), t.timeLoop.loop.keywordRange.start.line + 1].sort((p, q) => p - q));
   }
   for (const [x, at] of assumed) lines.push(`  assumed (line${at.length === 1 ? '' : 's'} ${at.join(', ')}): ${x}`);
+  for (const x of a.notUnderstood) lines.push(`  not understood (line ${x.line}, figures of the loop at line ${x.nestLine} marked ?): ${x.kind === 'subscript' ? `\`${x.what.replace(/`/g, '')}\`` : x.kind === 'call' ? `the call \`${x.what}\`` : `the loop \`${x.what}\``}: ${x.effect}`);
   for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
   for (const r of a.notTimeLoops) lines.push(`  not a time loop: line ${r.loop.keywordRange.start.line + 1} (${r.loop.variable ?? 'while'} in ${r.procedure.name}): ${r.reason}`);
   if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.baseline === 'core' ? 'one-core' : 'whole-node'} baseline${a.baselineReason ? ` (${a.baselineReason.split(':')[0]})` : ''}; ranges from documented efficiency bounds. Measure on the target machine to decide.`);

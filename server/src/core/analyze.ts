@@ -25,6 +25,7 @@ import { type StepWork, isParallelNest, stepEstimate, stepWork } from './estimat
 import type { Baseline, NestEstimate, StepEstimate } from './estimate/types';
 import type { DirectiveFamily, Finding, SourceLanguage } from './types';
 import { portPlans, portable, type TimeLoopPlans } from './port/plans';
+import { type NotUnderstood, notUnderstood } from './analysis/understood';
 
 export interface AnalyzeInput {
   path: string;
@@ -202,6 +203,8 @@ export interface FileAnalysis {
   port?: { text: string; naiveText: string };
   /** User bindings (`--bind`) that name nothing in this file (the CLI warns when no file uses one). */
   unmatchedBindings: string[];
+  /** What the model could not read in the loop nests, and what it does to their figures. */
+  notUnderstood: NotUnderstood[];
 }
 
 export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
@@ -221,6 +224,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     internalErrors: [],
     baseline,
     unmatchedBindings: [],
+    notUnderstood: [],
   };
   try {
     const built = input.model ?? buildModel(input, deps, options);
@@ -289,6 +293,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate, ...(fixed[k] ? { withRegion: fixed[k]! } : {}) });
     }
     result.findings.push(...unknownExtentFindings(result));
+    result.notUnderstood = notUnderstood(result.nests, model.language === 'fortran');
     if (options.bindings && options.bindings.size > 0) result.unmatchedBindings = unmatchedBindings(model, options.bindings);
     if (options.plans !== false && portable(result).length > 0) {
       const again = (text: string, what: boolean): FileAnalysis =>

@@ -55,6 +55,7 @@ export function fileReport(a: FileAnalysis): Record<string, unknown> {
       ? { notTimeLoops: a.notTimeLoops.map((r) => ({ line: r.loop.keywordRange.start.line + 1, function: r.procedure.name, variable: r.loop.variable ?? '', reason: r.reason })) }
       : {}),
     findings: a.findings.map(jsonFinding),
+    ...(a.notUnderstood.length > 0 ? { notUnderstood: a.notUnderstood } : {}),
   };
 }
 

@@ -45,6 +45,8 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
     ['bytes / iteration', `${formatPerIteration(r.cost.bytes.device)} device · ${formatPerIteration(r.cost.bytes.host)} host`],
     ['arithmetic intensity', `${formatIntensity(r.cost.intensity.device)} device · ${formatIntensity(r.cost.intensity.host)} host (flop/byte)`],
   ];
+  // What the model could not read here, and what it does to the figures above.
+  for (const x of ctx.analysis.notUnderstood.filter((u) => u.nestLine === line)) rows.push([`not understood (line ${x.line})`, `\`${x.what.replace(/`/g, '')}\`: ${x.effect}`]);
   if (est) {
     rows.push(['host time', formatSeconds(est.hostSeconds)], ['device time', formatSeconds(est.deviceSeconds)]);
     rows.push([n.offload ? 'speedup' : 'speedup if offloaded', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
