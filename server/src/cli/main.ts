@@ -17,7 +17,6 @@ import { chooseProfile, readMachinesFile } from './machines';
 import { formatPlans, planFiles } from './plan';
 import { formatFile } from './text';
 import { planningHtml } from '../planning/html';
-import { startServer } from '../lsp';
 import { formatVerify, verify, verifyJson } from './verify';
 import { runTranslate } from './translate';
 import { runPort } from './port';
@@ -37,7 +36,8 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
         return 0;
       case 'serve':
         // The server reads --stdio / --node-ipc / --socket from the process arguments itself.
-        startServer();
+        // Loaded only for `serve`: the other commands never evaluate the language server's modules.
+        (await import('../lsp')).startServer();
         return new Promise<number>(() => undefined);
       case 'calibrate': {
         const { host, measurements } = measure(args, err);
