@@ -64,9 +64,9 @@ const PURE = new Set([
   'ceiling', 'size', 'lbound', 'ubound', 'huge', 'tiny', 'epsilon', 'kind', 'cmplx', 'conjg', 'aimag', 'sqrt', 'exp', 'log',
   'fmin', 'fmax', 'fabs', 'labs', 'llabs', 'sizeof', 'isnan', 'isinf', 'isfinite', 'signbit',
 ]);
-const IO_CALL = /^(printf|fprintf|puts|fputs|putchar|fputc|fwrite|fread|scanf|fscanf|sscanf|sprintf|snprintf|perror|fflush|fopen|fclose|getchar|getc|fgets|malloc|calloc|realloc|free|exit|abort|_exit|rand|srand|system|time|clock|omp_get_thread_num|omp_get_wtime|mpi_\w+)$/i;
-const EARLY_EXIT = /^\s*(break|return|goto|go\s*to|exit|stop|error\s+stop|longjmp|throw)\b/i;
-const IO_STMT = /^\s*(write|print|read|open|close|inquire|rewind|backspace|flush|endfile|call\s+(exit|abort))\b/i;
+export const IO_CALL = /^(printf|fprintf|puts|fputs|putchar|fputc|fwrite|fread|scanf|fscanf|sscanf|sprintf|snprintf|perror|fflush|fopen|fclose|getchar|getc|fgets|malloc|calloc|realloc|free|exit|abort|_exit|rand|srand|system|time|clock|omp_get_thread_num|omp_get_wtime|mpi_\w+)$/i;
+export const EARLY_EXIT = /^\s*(break|return|goto|go\s*to|exit|stop|error\s+stop|longjmp|throw)\b/i;
+export const IO_STMT = /^\s*(write|print|read|open|close|inquire|rewind|backspace|flush|endfile|call\s+(exit|abort))\b/i;
 
 export function isPureCall(name: string): boolean {
   const n = mathName(name);

@@ -17,7 +17,7 @@ import type { FileAnalysis, TimeLoopReport } from '../analyze';
 import type { Execution } from '../data/interpreter';
 import type { Declaration, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { accessesOfStatement, walkStatements } from '../model/values';
-import { MATH_FLOPS, mathName } from '../cost/flops';
+import { EARLY_EXIT, IO_CALL, IO_STMT, isPureCall } from '../analysis/parallelProof';
 import * as S from '../symbolic';
 import type { Directive, DirectiveFamily, Range } from '../types';
 import { rangeWithin } from '../ranges';
@@ -41,16 +41,6 @@ export interface HostNest {
   line: number;
   procedure: string;
   reason: string;
-}
-
-/** Intrinsics and library calls that are pure arithmetic, beyond the costed math functions. */
-const PURE = new Set(['abs', 'iabs', 'dabs', 'max', 'min', 'max0', 'min0', 'amax1', 'amin1', 'dmax1', 'dmin1', 'mod', 'modulo', 'real', 'dble', 'float', 'int', 'nint', 'sign', 'merge', 'sqrt', 'dsqrt', 'exp', 'log', 'sin', 'cos', 'floor', 'ceiling', 'size', 'fmin', 'fmax', 'fabs', 'std::min', 'std::max', 'std::abs', 'std::fabs']);
-const IO = /^(std::)?(printf|fprintf|puts|fputs|putchar|fwrite|fread|scanf|fscanf|sprintf|snprintf|write|print|read|open|close|flush|exit|abort|stop|malloc|free|calloc|realloc)$/i;
-const EARLY_EXIT = /^\s*(break|return|goto|exit|stop|error\s+stop|longjmp)\b/i;
-
-function isPure(name: string): boolean {
-  const n = mathName(name).toLowerCase();
-  return n in MATH_FLOPS || PURE.has(n) || PURE.has(name.toLowerCase());
 }
 
 /** Calls a statement makes (statement calls and calls inside its expressions). */
@@ -166,10 +156,11 @@ function hostReason(model: ProgramModel, proc: Procedure, root: LoopStmt, family
   walkStatements([root], (s) => {
     if (reason) return false;
     if (s.kind === 'other' && EARLY_EXIT.test(s.text)) { reason = `it can leave early (\`${s.text.trim().split(/\s+/)[0]}\`), which an offloaded loop cannot`; return false; }
+    if (s.kind === 'other' && IO_STMT.test(s.text)) { reason = `it does I/O (\`${s.text.trim().split(/\s+/)[0]}\`), which stays on the host`; return false; }
     if (s.kind === 'loop' && s !== root && (!s.variable || s.condition !== undefined || s.counter)) { reason = 'an inner loop is not a counted loop'; return false; }
     for (const c of callsIn(s)) {
-      if (IO.test(c)) { reason = `it calls \`${c}\` (I/O or memory management), which stays on the host`; return false; }
-      if (!isPure(c)) { reason = `it calls \`${c}\`, which would need \`${family === 'openacc' ? 'acc routine' : 'omp declare target'}\`; port that procedure first`; return false; }
+      if (IO_CALL.test(c.replace(/^std::/, ''))) { reason = `it calls \`${c}\` (I/O or memory management), which stays on the host`; return false; }
+      if (!isPureCall(c)) { reason = `it calls \`${c}\`, which would need \`${family === 'openacc' ? 'acc routine' : 'omp declare target'}\`; port that procedure first`; return false; }
     }
     for (const a of accessesOfStatement(s)) {
       if (a.isWrite && a.subscripts.some((x) => !x)) { reason = `it writes \`${a.array}\` through a subscript the analysis cannot read (\`${a.subscriptText.join(', ')}\`), so iterations might write the same element`; return false; }
