@@ -20,6 +20,7 @@ import { analyzeSource, buildModel, type FileAnalysis } from '../core/analyze';
 import { compareRun, type Comparison, type ConstructComparison } from '../core/verify/compare';
 import { MapLogReader, type MapLog } from '../core/verify/mapLog';
 import { compareOutputs } from '../core/verify/outputs';
+import { formatBytes } from '../core/symbolic';
 import { translateDirectives } from '../core/translate';
 import { loadGrammars } from '../grammars';
 import type { VerifyArgs } from './args';
@@ -246,13 +247,7 @@ function firstLines(s: string, n: number): string {
   return s.split('\n').slice(0, n).join('\n');
 }
 
-const bytes = (n: number): string => {
-  if (n < 1024) return `${Number.isInteger(n) ? n : n.toFixed(1)} B`;
-  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
-  let v = n / 1024, u = 0;
-  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
-  return `${v.toFixed(1)} ${units[u]}`;
-};
+const bytes = formatBytes;
 
 const range = (r: { lo: number; hi: number }): string => (r.lo === r.hi ? bytes(r.lo) : `${bytes(r.lo)}–${bytes(r.hi)}`);
 

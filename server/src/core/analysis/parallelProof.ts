@@ -26,7 +26,7 @@
  */
 import * as S from '../symbolic';
 import type { ArrayAccess, Declaration, LoopStmt, ProgramModel, Stmt, VExpr } from '../model/program';
-import { accessesOfStatement, childStatements, printValue, walkStatements } from '../model/values';
+import { accessesOfStatement, childStatements, pathTo, printValue, walkStatements } from '../model/values';
 import { MATH_FLOPS, mathName } from '../cost/flops';
 import { unclamp } from '../cost/clamps';
 import { Scope } from '../cost/scope';
@@ -645,12 +645,3 @@ function directLoopsIn(stmts: readonly Stmt[]): boolean {
   return stmts.some((s) => s.kind === 'loop' || directLoopsIn(childStatements(s)));
 }
 
-/** Statements from the procedure's body down to `target` (excluded), empty when not found. */
-function pathTo(stmts: readonly Stmt[], target: Stmt): Stmt[] {
-  for (const s of stmts) {
-    if (s === target) return [];
-    const inner = pathTo(childStatements(s), target);
-    if (inner.length > 0 || childStatements(s).includes(target)) return [s, ...inner];
-  }
-  return [];
-}

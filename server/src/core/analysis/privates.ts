@@ -40,7 +40,7 @@
 import * as S from '../symbolic';
 import type { Declaration, LoopStmt, ProgramModel, Stmt, VExpr } from '../model/program';
 import { clausesNamed, collapseCount, isLoopDirective } from '../model/directives';
-import { childStatements, printValue, toSymbolic, walkStatements } from '../model/values';
+import { childStatements, pathTo, printValue, toSymbolic, walkStatements } from '../model/values';
 import { Scope } from '../cost/scope';
 import type { Directive, Finding, Fix } from '../types';
 import { rangeWithin } from '../ranges';
@@ -234,7 +234,8 @@ class NestContext {
       if (done.has(name) || !/^[A-Za-z_]\w*$/.test(name) || this.loopVars.has(name)) return;
       const decl = this.scope.lookup(name);
       if (!decl || !isScalar(decl)) return;
-      const loop = this.concurrentLoop(chain.slice(0, -1));
+      // The innermost loop whose iterations a directive runs concurrently (any copy).
+      const loop = this.racingLoop(chain.slice(0, -1), false);
       if (!loop || this.declaredWithin(name, loop)) return;
       const g = this.governed.get(loop)!;
       const directives = [g.directive, ...chain.slice(chain.indexOf(loop)).flatMap((x) => x.directives), ...this.above];
@@ -267,17 +268,6 @@ class NestContext {
       });
     });
     return out;
-  }
-
-  /** The innermost loop of the chain whose iterations a directive runs concurrently (any copy). */
-  private concurrentLoop(chain: Stmt[]): LoopStmt | undefined {
-    for (let k = chain.length - 1; k >= 0; k--) {
-      const s = chain[k];
-      if (s.kind !== 'loop') continue;
-      const g = this.governed.get(s);
-      if (g && this.races(g.directive, false)) return s;
-    }
-    return undefined;
   }
 
   private sharedScalar(name: string, decl: Declaration, s: Stmt, loop: LoopStmt): Finding {
@@ -488,16 +478,6 @@ function namesPrivately(d: Directive, name: string): boolean {
   const same = (a: string): boolean => (fortran ? a.toLowerCase() === name.toLowerCase() : a === name);
   if (d.clauses.some((c) => c.canonical === 'default' && /^(private|firstprivate)$/i.test(c.value ?? ''))) return true;
   return clausesNamed(d, ...PRIVATISING).some((c) => (c.vars ?? []).some((v) => same(v.name)));
-}
-
-/** Statements from the procedure's body down to `target` (excluded), empty when not found. */
-function pathTo(stmts: readonly Stmt[], target: Stmt): Stmt[] {
-  for (const s of stmts) {
-    if (s === target) return [];
-    const inner = pathTo(childStatements(s), target);
-    if (inner.length > 0 || childStatements(s).includes(target)) return [s, ...inner];
-  }
-  return [];
 }
 
 function walkLoops(s: Stmt, f: (l: LoopStmt) => void): void {

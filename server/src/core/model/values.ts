@@ -201,6 +201,16 @@ export function accessesOfStatement(s: Stmt): ArrayAccess[] {
 }
 
 /** Children statements of a statement, in source order. */
+/** Statements from the procedure's body down to `target` (excluded), empty when not found. */
+export function pathTo(stmts: readonly Stmt[], target: Stmt): Stmt[] {
+  for (const s of stmts) {
+    if (s === target) return [];
+    const inner = pathTo(childStatements(s), target);
+    if (inner.length > 0 || childStatements(s).includes(target)) return [s, ...inner];
+  }
+  return [];
+}
+
 export function childStatements(s: Stmt): Stmt[] {
   switch (s.kind) {
     case 'loop':
