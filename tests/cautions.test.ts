@@ -39,6 +39,28 @@ describe('cautions', () => {
     expect(html).toMatch(/With these updates for host code in the loop:<\/p><ul><li>before line 132: <code>#pragma acc update self/);
   });
 
+  it('one missing data region is one finding: the arrays listed, each construct as related information (JSON, text, SARIF)', () => {
+    // heat2d_acc.c: u and unew (8 MiB each) copied both ways by the constructs at lines 47 and 63
+    // every step and at line 56 every 100 steps: 8 MiB * 2 arrays * 2 ways * (2 + 1/100) = 64.3 MiB per step.
+    const file = join(ROOT, 'examples/heat2d/heat2d_acc.c');
+    const j = JSON.parse(runCli(['check', '--format', 'json', file]).stdout);
+    const region = j.files[0].findings.filter((f: { code: string; severity: string }) => f.code === 'implicit-transfer');
+    expect(region).toHaveLength(1);
+    expect(region[0].message).toMatch(/No data region keeps `u` and `unew` \(16\.0 MiB together\).*3 constructs.*OpenACC 3\.3 §2\.6\.2.*64\.3 MiB per step/);
+    expect(region[0].message).not.toMatch(/OpenMP/);
+    expect(region[0].related.map((r: { line: number }) => r.line)).toEqual([47, 56, 63]);
+    expect(region[0].related[1].message).toMatch(/^every 100 steps: `unew` to the device and back \(163\.8 KiB per step\)/);
+    const text = runCli(['check', file]).stdout;
+    expect(text).toMatch(/quick fix available\); each construct is listed below\.\n {6}line 47: every time step: `u` to the device and back/);
+    const sarif = JSON.parse(runCli(['check', '--format', 'sarif', file]).stdout);
+    const result = sarif.runs[0].results.find((r: { ruleId: string }) => r.ruleId === 'implicit-transfer');
+    expect(result.relatedLocations.map((r: { physicalLocation: { region: { startLine: number } } }) => r.physicalLocation.region.startLine)).toEqual([47, 56, 63]);
+    // The OpenMP port cites its own standard.
+    const omp = JSON.parse(runCli(['check', '--format', 'json', join(ROOT, 'examples/heat2d/heat2d_omp.c')]).stdout);
+    const m = omp.files[0].findings.filter((f: { severity: string }) => f.severity === 'warning').map((f: { message: string }) => f.message).join('\n');
+    expect(m).not.toMatch(/OpenACC/);
+  });
+
   it('a message asks for the update of the file\'s own model, citing its own standard', async () => {
     const omp = await analyzeFile(join(ROOT, 'tests/fixtures/verify/host_boundary_omp.c'));
     const m = omp.findings.find((f) => f.code === 'stale-on-device')!.message;

@@ -61,6 +61,8 @@ export function formatFile(a: FileAnalysis): string {
   if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.baseline === 'core' ? 'one-core' : 'whole-node'} baseline${a.baselineReason ? ` (${a.baselineReason.split(':')[0]})` : ''}; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
   for (const f of a.findings) {
     lines.push(`  ${a.path}:${f.range.start.line + 1}:${f.range.start.col + 1}: ${f.severity} [${f.code}] ${f.message}`);
+    // The places a finding is about besides its own (each construct of one missing region, the other file of a call).
+    for (const r of f.related ?? []) lines.push(`      ${r.path === a.path ? 'line ' : `${r.path}:`}${r.range.start.line + 1}: ${r.message}`);
   }
   for (const e of a.internalErrors) lines.push(`  internal error (please report): ${e.split('\n')[0]}`);
   return lines.join('\n');

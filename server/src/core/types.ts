@@ -56,6 +56,8 @@ export interface Finding {
   range: Range;
   message: string;
   array?: string;
+  /** The arrays of a finding about several (one missing data region): each is named in the message. */
+  arrays?: string[];
   /** Quick fixes for this finding, in order of preference. */
   fixes?: Fix[];
   /**

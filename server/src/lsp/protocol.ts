@@ -181,6 +181,8 @@ export interface PlanningFinding {
   line: number;
   message: string;
   array?: string;
+  /** Other places it is about (each construct of one missing data region). */
+  related?: { path: string; line: number; message: string }[];
   bytesPerStep?: number;
 }
 

@@ -169,6 +169,7 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
     groups.set(id, [...(groups.get(id) ?? []), t]);
   }
   const out: Finding[] = [];
+  const residentable: Residentable[] = [];
   const steps = l.steps.value;
   for (const ts of groups.values()) {
     const t0 = ts[0];
@@ -196,10 +197,12 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
         message: `The scalar \`${t0.array}\`${sizeText} is ${how} ${every} by this construct (a reduction result or a scalar it writes; ${family === 'openacc' ? 'OpenACC 3.3 §2.6.2' : 'OpenMP 5.2 §5.8.1'})${via}: ${amounts} in ${n} blocking transfer${n === 1 ? '' : 's'}. Few bytes, but each waits for the link's latency; where the host needs the value only now and then, keep it on the device and update it when needed.`,
       });
     } else if (t0.cause === 'implicit') {
-      out.push({
+      const f: Finding = {
         code: 'implicit-transfer', severity: 'warning', range: place(t0.range), array: t0.array,
-        message: `\`${t0.array}\`${sizeText} is named in no data clause and is not present, so this construct ${how === 'copied to the device and back' ? 'copies it to the device and back' : how.replace('copied', 'copies it')} ${every} by the implicit rules (OpenACC 3.3 §2.6.2: aggregates are copied; OpenMP 5.2 §5.8.1: map(tofrom))${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
-      });
+        message: `\`${t0.array}\`${sizeText} is named in no data clause and is not present, so this construct ${how === 'copied to the device and back' ? 'copies it to the device and back' : how.replace('copied', 'copies it')} ${every} by the implicit rules (${IMPLICIT_RULE[family]})${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
+      };
+      out.push(f);
+      if (!t0.origin) residentable.push({ finding: f, ts, perStep, how, every, via });
     } else if (t0.cause === 'update') {
       const recs = l.run.transfers.filter((r) => r.range === t0.range && r.array === t0.array && r.direction === t0.direction);
       const whole = recs.some((r) => r.whole);
@@ -216,13 +219,82 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
         message: `This update moves ${what} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it.'}`,
       });
     } else {
-      out.push({
+      const f: Finding = {
         code: 'transfer-in-time-loop', severity: 'warning', range: place(t0.at ?? t0.range), array: t0.array,
         message: `\`${t0.array}\`${sizeText} is ${how} ${every} by this construct's data clause${via}: ${amounts}. Keep it resident: put a data region around the time loop (quick fix available).`,
-      });
+      };
+      out.push(f);
+      if (!t0.origin) residentable.push({ finding: f, ts, perStep, how, every, via });
     }
   }
-  return out;
+  if (residentable.length < 2) return out;
+  const grouped = missingRegionFinding(residentable, l, bindings, family, path);
+  const members = new Set(residentable.map((r) => r.finding));
+  const at = out.findIndex((f) => members.has(f));
+  return [...out.slice(0, at), grouped, ...out.slice(at).filter((f) => !members.has(f))];
+}
+
+/** The implicit data rules of each model, cited in its own standard. */
+const IMPLICIT_RULE: Record<DirectiveFamily, string> = {
+  openacc: 'OpenACC 3.3 §2.6.2: arrays are copied',
+  openmp: 'OpenMP 5.2 §5.8.1: arrays are mapped tofrom',
+};
+
+/** A transfer finding one data region around the time loop would remove (same file only). */
+interface Residentable {
+  finding: Finding;
+  ts: TransferReport[];
+  perStep: number | undefined;
+  how: string;
+  every: string;
+  /** How the time loop reaches the construct, when through a call. */
+  via: string;
+}
+
+/**
+ * One missing data region is one finding: the arrays it would keep resident, the bytes they cost
+ * per step together, and each construct that moves them as related information. It sits at the
+ * first construct of the time loop that moves them, with the region's quick fix (added by the caller).
+ */
+function missingRegionFinding(rs: Residentable[], l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, family: DirectiveFamily, path: string): Finding {
+  const arrays = [...new Set(rs.map((r) => r.finding.array!))];
+  const sizes = arrays.map((a) => rs.find((r) => r.finding.array === a)!.ts[0].bytes.value);
+  const together = sizes.every((x) => x !== null) ? S.formatBytes(sizes.reduce((x, y) => x + (y ?? 0), 0)) : undefined;
+  const perStepExpr = S.add(...rs.flatMap((r) => r.ts.map((t) => S.div(t.bytesExpr, S.num(t.everySteps)))));
+  const perStep = S.evaluate(perStepExpr, bindings);
+  const steps = l.steps.value;
+  const amounts = perStep !== undefined
+    ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
+    : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
+  // Constructs all reached through one call: say so once, in the message; otherwise per construct.
+  const sameVia = rs.every((r) => r.via === rs[0].via) ? rs[0].via : '';
+  const constructs = new Map<number, { range: Range; every: string; via: string; parts: string[] }>();
+  for (const r of rs) {
+    const range = r.finding.range;
+    const c = constructs.get(range.start.line) ?? { range, every: r.every, via: sameVia ? '' : r.via, parts: [] };
+    c.parts.push(`\`${r.finding.array}\` ${r.how.replace(/^copied /, '')}${r.perStep !== undefined ? ` (${S.formatBytes(r.perStep)} per step)` : ''}`);
+    constructs.set(range.start.line, c);
+  }
+  const implicit = rs.some((r) => r.finding.code === 'implicit-transfer');
+  const first = rs.reduce((a, b) => (b.finding.range.start.line < a.finding.range.start.line ? b : a)).finding;
+  const names = arrays.length === 1 ? `\`${arrays[0]}\`` : `${arrays.slice(0, -1).map((a) => `\`${a}\``).join(', ')} and \`${arrays[arrays.length - 1]}\``;
+  const why = implicit
+    ? rs.every((r) => r.finding.code === 'implicit-transfer')
+      ? `by the implicit rules (${IMPLICIT_RULE[family]})`
+      : `by the implicit rules (${IMPLICIT_RULE[family]}) and by their data clauses`
+    : 'by their data clauses';
+  const them = arrays.length === 1 ? 'it' : 'them';
+  return {
+    code: implicit ? 'implicit-transfer' : 'transfer-in-time-loop',
+    severity: 'warning',
+    range: first.range,
+    ...(arrays.length === 1 ? { array: arrays[0] } : {}),
+    arrays,
+    message: `No data region keeps ${names}${together ? ` (${together}${arrays.length > 1 ? ' together' : ''})` : ''} on the device across the time loop, so ${constructs.size} construct${constructs.size === 1 ? '' : 's'} it runs move${constructs.size === 1 ? 's' : ''} ${them} across the link${sameVia} ${why}: ${amounts}. Keep ${them} resident: put one data region around the time loop (quick fix available); each construct is listed below.`,
+    related: [...constructs.values()].sort((a, b) => a.range.start.line - b.range.start.line).map((c) => ({
+      path, range: c.range, message: `${c.every}: ${c.parts.join('; ')}${c.via}`,
+    })),
+  };
 }
 
 /** Whole-array updates where host code in the loop touches only part of the array. */

@@ -187,16 +187,26 @@ export function editedLineToOriginal(edits: readonly LineEdit[]): (line: number)
 /** The bytes per step a transfer finding names: its transfers, keyed where the finding is placed (ledger.ts transferFindings). */
 function findingsWithBytes(findings: PlanningFinding[], timeLoops: TimeLoopReport[]): PlanningFinding[] {
   const bytes = new Map<string, number>();
+  const resident = new Map<string, number>();
   for (const t of timeLoops) {
     for (const x of t.ledger!.transfers) {
       if (x.bytes.value === null) continue;
       const place = x.origin && x.via[0] ? x.via[0] : x.at ?? x.range;
       const key = `${place.start.line + 1}:${x.array}`;
       bytes.set(key, (bytes.get(key) ?? 0) + x.bytes.value / x.everySteps);
+      // What one data region removes at a line (a grouped missing-region finding names those lines as related).
+      if (!x.scalar && x.cause !== 'update' && !x.origin) {
+        const line = `${place.start.line + 1}`;
+        resident.set(line, (resident.get(line) ?? 0) + x.bytes.value / x.everySteps);
+      }
     }
   }
   return findings.map((f) => {
-    const b = f.array && (f.code === 'transfer-in-time-loop' || f.code === 'implicit-transfer') ? bytes.get(`${f.line}:${f.array}`) : undefined;
+    const transfer = f.code === 'transfer-in-time-loop' || f.code === 'implicit-transfer';
+    const lines = !f.array && transfer && f.related && f.related.length > 0 ? [...new Set(f.related.map((r) => `${r.line}`))] : [];
+    const b = f.array && transfer
+      ? bytes.get(`${f.line}:${f.array}`)
+      : lines.length > 0 ? lines.reduce((sum, line) => sum + (resident.get(line) ?? 0), 0) : undefined;
     const { code, severity, line, message, array } = f;
     return { code, severity, line, message, ...(array ? { array } : {}), ...(b !== undefined ? { bytesPerStep: b } : {}) };
   });
