@@ -30,7 +30,7 @@ describe('offload-ledger check', () => {
   it('prints a readable table of loop nests', () => {
     const r = runCli(['check', 'examples/heat2d/heat2d_acc.c']);
     expect(r.status).toBe(0);
-    expect(r.stdout).toMatch(/line\s+function\s+variables\s+offloaded\s+flop\/it\s+B\/it dev\s+B\/it host\s+AI dev\s+AI host\s+kernel speedup\s+iterations/);
+    expect(r.stdout).toMatch(/line\s+function\s+variables\s+offloaded\s+flop\/it\s+B\/it dev\s+B\/it host\s+AI dev\s+AI host\s+kernel speedup vs whole node\s+iterations/);
     // 2-D Jacobi: 4 flops, 16 device bytes, 24 host bytes per point (hand count; see fixtures/cost).
     expect(r.stdout).toMatch(/48\s+main\s+j,i\s+yes \(openacc\)\s+4\s+16\s+24\s+0\.25\s+0\.17\s+[\d.]+–[\d.]+× \(memory\)\s+1,044,484/);
     expect(r.stdout).toMatch(/bound by transfer; with the suggested data region [\d.]+–[\d.]+× \(bound by memory\)/);

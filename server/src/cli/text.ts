@@ -23,7 +23,9 @@ export function formatFile(a: FileAnalysis): string {
   if (a.nests.length === 0) {
     lines.push('  no loop nests found');
   } else {
-    const rows = [['line', 'function', 'variables', 'offloaded', 'flop/it', 'B/it dev', 'B/it host', 'AI dev', 'AI host', 'kernel speedup', 'iterations']];
+    // One baseline for the whole column, named in its header; each kernel includes its launch.
+    const versus = a.baseline === 'core' ? 'one core' : 'whole node';
+    const rows = [['line', 'function', 'variables', 'offloaded', 'flop/it', 'B/it dev', 'B/it host', 'AI dev', 'AI host', `kernel speedup vs ${versus}`, 'iterations']];
     // A nest whose figures rest on something the model could not read is marked `?` (listed below).
     const unread = new Set(a.notUnderstood.map((x) => x.nestLine));
     for (const r of a.nests) {
@@ -40,7 +42,9 @@ export function formatFile(a: FileAnalysis): string {
         r.cost.intensity.device === undefined ? '-' : r.cost.intensity.device.toFixed(2),
         r.cost.intensity.host === undefined ? '-' : r.cost.intensity.host.toFixed(2),
         // A loop that runs on the host has no speedup yet: what it shows is what offloading it could pay.
-        r.estimate?.speedup ? `${spread(r.estimate.speedup)} (${r.estimate.bound})${n.offload ? '' : ' if offloaded'}` : '-',
+        r.estimate?.speedup
+          ? `${spread(r.estimate.speedup)} (${r.estimate.bound})${n.offload ? '' : ' if offloaded'}`
+          : r.iterations.value === null ? '- (a size is unbound)' : r.estimate?.hostSeconds === 0 ? '- (no work)' : '-',
         formatQuantity(r.iterations) + (r.approximate ? ' (approx., triangular)' : ''),
       ]);
     }
@@ -58,7 +62,7 @@ export function formatFile(a: FileAnalysis): string {
   for (const x of a.notUnderstood) lines.push(`  not understood (line ${x.line}, figures of the loop at line ${x.nestLine} marked ?): ${x.kind === 'subscript' ? `\`${x.what.replace(/`/g, '')}\`` : x.kind === 'call' ? `the call \`${x.what}\`` : `the loop \`${x.what}\``}: ${x.effect}`);
   for (const t of a.timeLoops) lines.push(...formatTimeLoop(t));
   for (const r of a.notTimeLoops) lines.push(`  not a time loop: line ${r.loop.keywordRange.start.line + 1} (${r.loop.variable ?? 'while'} in ${r.procedure.name}): ${r.reason}`);
-  if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.baseline === 'core' ? 'one-core' : 'whole-node'} baseline${a.baselineReason ? ` (${a.baselineReason.split(':')[0]})` : ''}; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
+  if (a.nests.length > 0) lines.push(`  estimates: roofline on profile ${a.profile.name} (${a.profile.host.name} host, ${a.profile.device.name} device, ${a.profile.link.name} link), ${a.baseline === 'core' ? 'one-core' : 'whole-node'} baseline${a.baselineReason ? ` (${a.baselineReason.split(':')[0]})` : ''} for every speedup; a kernel speedup is one nest as one kernel, launch included, without transfers; ranges from documented efficiency bounds. Measure on the target machine to decide.`);
   for (const f of a.findings) {
     lines.push(`  ${a.path}:${f.range.start.line + 1}:${f.range.start.col + 1}: ${f.severity} [${f.code}] ${f.message}`);
     // The places a finding is about besides its own (each construct of one missing region, the other file of a call).

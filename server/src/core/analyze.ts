@@ -267,7 +267,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       const iterations = quantity(it.expr, bind(nest), it.display);
       const cost = nestCost(nest, model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? profile.host.cacheBytesPerCore });
       const report: NestReport = { nest, iterations, approximate: it.triangular, cost };
-      report.estimate = nestEstimate(iterations.value, cost, profile, baseline, isParallelNest(report));
+      report.estimate = nestEstimate(iterations.value, cost, profile, baseline);
       (nest.procedure.origin ? external : result.nests).push(report);
     }
     result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n)));

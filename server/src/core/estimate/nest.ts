@@ -42,16 +42,25 @@ export function deviceKernel(w: Work, profile: MachineProfile, c: Case = 'expect
   return rooflineTime(w.cost.flopsPerIteration * w.iterations, w.cost.bytes.device * w.iterations, peak, d.bandwidth * EFFICIENCY.deviceBandwidth[c]);
 }
 
-export function nestEstimate(iterations: number | null, cost: NestCost, profile: MachineProfile, baseline: Baseline, parallel = true): NestEstimate {
+/**
+ * The nest as one device kernel against the same nest on the host baseline. One baseline for every
+ * nest of a file (the whole node, or one core for serial code), whether or not the host version is
+ * parallel today, so that a column of speedups compares like with like; the device side includes
+ * one kernel launch (profile launch latency, scaled by the launch efficiency of each case).
+ */
+export function nestEstimate(iterations: number | null, cost: NestCost, profile: MachineProfile, baseline: Baseline): NestEstimate {
   const base: NestEstimate = { profile: profile.name, baseline, hostSeconds: null, deviceSeconds: null, speedup: null, bound: null };
   if (iterations === null) return base;
-  const w = { iterations, cost, parallel };
+  const w = { iterations, cost, parallel: true };
+  // A nest that moves and computes nothing (zero trips, or only index work) has no speedup to give.
+  if (hostSeconds(w, profile, baseline) === 0) return { ...base, hostSeconds: 0 };
+  const launch = (c: Case): number => profile.device.launchSeconds * EFFICIENCY.launch[c];
   const speedup = {} as Spread;
   for (const c of CASES) {
-    const dev = deviceKernel(w, profile, c).seconds;
+    const dev = deviceKernel(w, profile, c).seconds + launch(c);
     speedup[c] = dev > 0 ? hostSeconds(w, profile, baseline, c) / dev : 1;
   }
   const dev = deviceKernel(w, profile);
-  const bound: Bound = dev.bound;
-  return { ...base, hostSeconds: hostSeconds(w, profile, baseline), deviceSeconds: dev.seconds, speedup, bound };
+  const bound: Bound = launch('expected') > dev.seconds ? 'launch' : dev.bound;
+  return { ...base, hostSeconds: hostSeconds(w, profile, baseline), deviceSeconds: dev.seconds + launch('expected'), speedup, bound };
 }

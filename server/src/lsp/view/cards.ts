@@ -48,8 +48,9 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
   // What the model could not read here, and what it does to the figures above.
   for (const x of ctx.analysis.notUnderstood.filter((u) => u.nestLine === line)) rows.push([`not understood (line ${x.line})`, `\`${x.what.replace(/`/g, '')}\`: ${x.effect}`]);
   if (est) {
-    rows.push(['host time', formatSeconds(est.hostSeconds)], ['device time', formatSeconds(est.deviceSeconds)]);
-    rows.push([n.offload ? 'speedup' : 'speedup if offloaded', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
+    const versus = est.baseline === 'core' ? 'one core' : 'the whole node';
+    rows.push([`host time (${versus})`, formatSeconds(est.hostSeconds)], ['device time (one kernel, launch included, no transfers)', formatSeconds(est.deviceSeconds)]);
+    rows.push([n.offload ? 'speedup' : 'speedup if offloaded', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : est.hostSeconds === 0 ? '— (the nest does no work to speed up)' : '— (a size is unbound)']);
   } else {
     rows.push(['speedup', '— (not estimated)']);
   }
