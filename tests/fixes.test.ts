@@ -40,6 +40,8 @@ const cases: { file: string; codes: string[]; defines: string[]; run: boolean }[
   { file: 'tests/fixtures/data/present_inside_region.c', codes: ['already-present'], defines: [], run: true },
   { file: 'tests/fixtures/data/wide_update.c', codes: ['update-wider-than-needed'], defines: [], run: true },
   { file: 'tests/fixtures/data-flow/edge_rows.c', codes: ['update-wider-than-needed'], defines: [], run: true },
+  // Two planes of a 3-D array behind an index macro and a pointer swap: two exact sections, named as the clause names the array.
+  { file: 'tests/fixtures/fixes14/two_planes.c', codes: ['update-wider-than-needed'], defines: [], run: true },
   { file: 'tests/fixtures/races/races.c', codes: ['missing-reduction'], defines: [], run: false },
   { file: 'examples/heat2d/heat2d_acc.c', codes: ['implicit-transfer'], defines: ['-DNX=64', '-DNY=48', '-DSTEPS=120'], run: true },
   { file: 'examples/hall/hall_naive_omp.c', codes: ['transfer-in-time-loop'], defines: ['-DNX=40', '-DNY=30', '-DNZ=20', '-DSTEPS=120'], run: true },

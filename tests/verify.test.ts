@@ -175,6 +175,7 @@ const PROGRAMS: { file: string; defines?: Record<string, string>; stale?: boolea
   { file: 'tests/fixtures/data-flow/split_host.c' },
   { file: 'tests/fixtures/data-flow/alloc_routine.c' },
   { file: 'tests/fixtures/data-flow/edge_rows.c' },
+  { file: 'tests/fixtures/fixes14/two_planes.c' },
 ];
 
 describe.skipIf(!haveOffload)('verify: measured bytes per construct equal the ledger, with separate memories', () => {
@@ -282,6 +283,7 @@ describe.skipIf(!haveOffload)('verify: measured bytes per construct equal the le
     { file: 'tests/fixtures/data/present_inside_region.c', codes: ['already-present'], defines: {} },
     { file: 'tests/fixtures/data/wide_update.c', codes: ['update-wider-than-needed'], defines: {} },
     { file: 'tests/fixtures/data-flow/edge_rows.c', codes: ['update-wider-than-needed'], defines: {} },
+    { file: 'tests/fixtures/fixes14/two_planes.c', codes: ['update-wider-than-needed'], defines: {} },
   ])('the quick fixes of $file, measured', async ({ file, codes, defines }) => {
     let text = readFileSync(join(ROOT, file), 'utf8');
     const settings = { defines: new Map(Object.entries(defines)) };

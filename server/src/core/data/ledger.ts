@@ -11,12 +11,12 @@ import type { LoopStmt, Procedure, ProgramModel } from '../model/program';
 import type { TimeLoop } from '../analysis/nests';
 import type { Quantity } from '../analysis/bindings';
 import { quantity } from '../analysis/bindings';
-import type { DirectiveFamily, Finding, Fix, Range, TextEdit } from '../types';
+import type { DirectiveFamily, Finding, Fix, Range, SourceLanguage, TextEdit } from '../types';
 import { isOffloadCompute } from '../model/directives';
 import { walkStatements } from '../model/values';
 import { DataInterpreter, type EntryState, type TimeLoopRun, type TransferRecord } from './interpreter';
-import { type Region, intersect, regionSize, subtract } from './regions';
-import { regionSectionText } from './slices';
+import { type Region, bounding, boxSize, disjoint, intersect, overlaps, regionSize, subtract } from './regions';
+import { regionSections, sectionElements } from './slices';
 import { type DataRegionSuggestion, suggestDataRegion, updateDirective, updateLines } from './suggest';
 import { touchSectionText } from './slices';
 
@@ -75,6 +75,8 @@ export function dataLedger(
   const loops = new Set(outer.map((t) => t.loop));
   const findings: Finding[] = [];
   const ledgers: TimeLoopLedger[] = [];
+  let lines: string[] | undefined;
+  const lineAt = (n: number): string => (lines ??= text.split('\n'))[n] ?? '';
   const family = directiveFamily(model);
   const procs = new Map(model.procedures.map((p) => [p.name, p]));
   const withLoops = [...new Set(outer.map((t) => t.procedure))];
@@ -116,9 +118,9 @@ export function dataLedger(
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
-      const fromTransfers = transferFindings(ledger, bindings, model.path, familyIn(run.loop, family));
+      const fromTransfers = transferFindings(ledger, bindings, model.path, familyIn(run.loop, family), lineAt);
       for (const f of fromTransfers) if (regionFix && (f.code === 'implicit-transfer' || f.severity === 'warning')) f.fixes = [regionFix];
-      findings.push(...fromTransfers, ...widerUpdateFindings(ledger, interp, model), ...memoryFindings(ledger, options));
+      findings.push(...fromTransfers, ...widerUpdateFindings(ledger, interp, model, lineAt, familyIn(run.loop, family)), ...memoryFindings(ledger, options));
     }
   }
   return { ledgers, findings };
@@ -162,7 +164,7 @@ function perStepQuantity(ts: TransferRecord[], bindings: ReadonlyMap<string, S.E
 }
 
 /** One finding per (directive, array): both directions of a copy in one sentence. */
-function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string, family: DirectiveFamily): Finding[] {
+function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string, family: DirectiveFamily, lineAt: (line: number) => string): Finding[] {
   const groups = new Map<string, TransferReport[]>();
   for (const t of l.transfers) {
     const id = `${t.origin ?? ''}:${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
@@ -206,14 +208,16 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
     } else if (t0.cause === 'update') {
       const recs = l.run.transfers.filter((r) => r.range === t0.range && r.array === t0.array && r.direction === t0.direction);
       const whole = recs.some((r) => r.whole);
+      // The array as this update names it (a rotated storage may carry another name elsewhere).
+      const shown = t0.origin ? t0.array : writtenName(lineAt, t0.at) ?? t0.array;
       // Slices are named as written: `u[0:1][0:N]` and `u[N-1:1][0:N]`, not "a slice of u".
       const slices = [...new Set(recs.map((r) => r.section?.text).filter((x): x is string => !!x))];
       const total = S.evaluate(S.add(...recs.map((r) => r.bytes)), bindings);
       const what = whole
-        ? `all of \`${t0.array}\`${sizeText}`
+        ? `all of \`${shown}\`${sizeText}`
         : slices.length > 1
-          ? `${slices.length} slices of \`${t0.array}\` (${slices.map((x) => `\`${x}\``).join(', ')}${total !== undefined ? `; ${S.formatBytes(total)} together` : ''})`
-          : `the slice ${slices[0] ? `\`${slices[0]}\`` : `of \`${t0.array}\``}${size !== null ? ` (${S.formatBytes(size)})` : ''}`;
+          ? `${slices.length} slices of \`${shown}\` (${slices.map((x) => `\`${x}\``).join(', ')}${total !== undefined ? `; ${S.formatBytes(total)} together` : ''})`
+          : `the slice ${slices[0] ? `\`${slices[0]}\`` : `of \`${shown}\``}${size !== null ? ` (${S.formatBytes(size)})` : ''}`;
       out.push({
         code: 'transfer-in-time-loop', severity: whole && t0.everySteps === 1 ? 'warning' : 'info', range: place(t0.at ?? t0.range), array: t0.array,
         message: `This update moves ${what} ${every}${via}: ${amounts}.${whole ? ' If host code needs only part of it, update just that slice.' : ' Host code in the loop needs it.'}`,
@@ -298,12 +302,12 @@ function missingRegionFinding(rs: Residentable[], l: TimeLoopLedger, bindings: R
 }
 
 /** Whole-array updates where host code in the loop touches only part of the array. */
-function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: ProgramModel): Finding[] {
+function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: ProgramModel, lineAt: (line: number) => string, family: DirectiveFamily): Finding[] {
   const out: Finding[] = [];
   const seen = new Set<string>();
   for (const t of l.run.transfers) {
     if (t.cause === 'update' && !t.whole && !t.origin && t.direction === 'toHost') {
-      const f = overwrittenSliceFinding(t, l, interp, model, seen);
+      const f = overwrittenSliceFinding(t, l, interp, model, seen, lineAt, family);
       if (f) out.push(f);
       continue;
     }
@@ -317,17 +321,31 @@ function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: 
     const kind = t.direction === 'toHost' ? 'read' : 'write';
     const touched = l.run.hostTouches.filter((h) => h.key === t.array && h.kind === kind).flatMap((h) => h.region);
     const total = info.shape.extents.reduce((a, b) => a * b, 1);
-    const needed = regionSize(mergeDisjoint(touched));
+    const needed = regionSize(disjoint(touched));
     if (touched.length === 0 || needed >= total) continue;
     const touches = l.run.hostTouches.filter((h) => h.key === t.array && h.kind === kind);
+    // The name as the clause writes it (after a pointer swap the storage may carry another name here).
+    const name = writtenName(lineAt, t.at) ?? t.array;
     const fileNames = new Set(model.bindings.keys());
-    const texts = [...new Set(touches.map((h) => touchSectionText(h, t.array, info, model.language, new Map([...h.bindings].filter(([k]) => !fileNames.has(k))))))];
-    const slice = texts.length === 1 && texts[0] ? texts[0] : regionSectionText(touched, t.array, info, model.language);
-    const fixes = t.at ? [{ title: `Narrow the update to \`${slice}\``, edits: [{ range: t.at, newText: slice }] }] : undefined;
+    const ownTexts = touches.map((h) => touchSectionText(h, name, info, model.language, new Map([...h.bindings].filter(([k]) => !fileNames.has(k)))));
+    const texts = [...new Set(ownTexts)];
+    // The code's own index expressions where each touch is one exact section and no two overlap;
+    // otherwise exact numeric sections, one per box the touched elements join into.
+    const exact = ownTexts.every((x) => !!x) && touches.every((h) => regionSize(disjoint(h.region)) === boxSize(bounding(h.region)))
+      && touches.every((h, i) => touches.every((g, j) => j <= i || ownTexts[i] === ownTexts[j] || !overlaps(h.region, g.region)));
+    const sections = regionSections(touched, name, info, model.language);
+    const pieces = exact ? texts as string[] : sections.texts;
+    const slice = sectionsText(pieces);
+    const moved = exact
+      ? [...new Map(touches.map((h, i) => [ownTexts[i], sectionElements(bounding(h.region), info, model.language)])).values()].reduce((a, b) => a + b, 0)
+      : sections.elements;
+    // A narrowed update that would move (nearly) everything is no fix.
+    if (moved >= total) continue;
+    const fixes = t.at ? [narrowingFix(t, pieces, model.language, family, lineAt)] : undefined;
     out.push({
       fixes,
       code: 'update-wider-than-needed', severity: 'warning', range: t.range, array: t.array,
-      message: `This update moves all of \`${t.array}\` (${S.formatBytes(total * info.elementBytes)}), but host code in the loop ${kind === 'read' ? 'reads' : 'writes'} only ${needed.toLocaleString('en-US')} element${needed === 1 ? '' : 's'} of it; update just \`${slice}\` (${S.formatBytes(needed * info.elementBytes)}).`,
+      message: `This update moves all of \`${name}\` (${S.formatBytes(total * info.elementBytes)}), but host code in the loop ${kind === 'read' ? 'reads' : 'writes'} only ${needed.toLocaleString('en-US')} element${needed === 1 ? '' : 's'} of it; update just \`${slice}\` (${S.formatBytes(moved * info.elementBytes)}${moved > needed ? `: whole rows, as a C section must be contiguous` : ''}).`,
     });
   }
   return out;
@@ -337,7 +355,7 @@ function widerUpdateFindings(l: TimeLoopLedger, interp: DataInterpreter, model: 
  * A slice brought to the host of which the host overwrites part before it reads it: only the
  * elements read before being overwritten need the device's values (host reads in step order).
  */
-function overwrittenSliceFinding(t: TransferRecord, l: TimeLoopLedger, interp: DataInterpreter, model: ProgramModel, seen: Set<string>): Finding | undefined {
+function overwrittenSliceFinding(t: TransferRecord, l: TimeLoopLedger, interp: DataInterpreter, model: ProgramModel, seen: Set<string>, lineAt: (line: number) => string, family: DirectiveFamily): Finding | undefined {
   const id = `${t.range.start.line}:${t.array}:${t.section?.text}`;
   if (seen.has(id) || !t.section) return undefined;
   seen.add(id);
@@ -351,22 +369,44 @@ function overwrittenSliceFinding(t: TransferRecord, l: TimeLoopLedger, interp: D
     if (h.kind === 'read') needed = [...needed, ...intersect(subtract(h.region, written), updated)];
     else written = [...written, ...h.region];
   }
-  const have = regionSize(mergeDisjoint(updated));
-  const need = regionSize(mergeDisjoint(needed));
+  const have = regionSize(disjoint(updated));
+  const need = regionSize(disjoint(needed));
   if (!Number.isFinite(have) || !Number.isFinite(need) || need === 0 || need >= have) return undefined;
-  const slice = regionSectionText(mergeDisjoint(needed), t.array, info, model.language);
+  const sections = regionSections(needed, writtenName(lineAt, t.at) ?? t.array, info, model.language);
+  if (sections.elements >= have) return undefined;
+  const slice = sectionsText(sections.texts);
   return {
-    fixes: t.at ? [{ title: `Narrow the update to \`${slice}\``, edits: [{ range: t.at, newText: slice }] }] : undefined,
+    fixes: t.at ? [narrowingFix(t, sections.texts, model.language, family, lineAt)] : undefined,
     code: 'update-wider-than-needed', severity: 'warning', range: t.at ?? t.range, array: t.array,
-    message: `This update brings \`${t.section.text}\` (${S.formatBytes(have * info.elementBytes)}) to the host, but host code overwrites part of it before reading it; only ${need.toLocaleString('en-US')} element${need === 1 ? '' : 's'} are read first: update just \`${slice}\` (${S.formatBytes(need * info.elementBytes)}).`,
+    message: `This update brings \`${t.section.text}\` (${S.formatBytes(have * info.elementBytes)}) to the host, but host code overwrites part of it before reading it; only ${need.toLocaleString('en-US')} element${need === 1 ? '' : 's'} are read first: update just \`${slice}\` (${S.formatBytes(sections.elements * info.elementBytes)}).`,
   };
 }
 
-/** The union of possibly overlapping boxes as disjoint boxes, so its size counts each element once. */
-function mergeDisjoint(r: Region): Region {
-  let acc: Region = [];
-  for (const b of r) acc = [...acc, ...subtract([b], acc)];
-  return acc;
+/** Sections as a message names them: `a`, `a` and `b`, `a`, `b` and `c`. */
+function sectionsText(pieces: readonly string[]): string {
+  // The caller wraps the result in backticks.
+  return pieces.length <= 1 ? (pieces[0] ?? '') : `${pieces.slice(0, -1).join('`, `')}\` and \`${pieces[pieces.length - 1]}`;
+}
+
+/**
+ * The fix that narrows an update to its sections: the first replaces the clause's variable, and
+ * each further section gets an update directive of its own right after (compilers reject one
+ * array twice in one clause: gcc "appears more than once in data clauses").
+ */
+function narrowingFix(t: TransferRecord, pieces: readonly string[], lang: SourceLanguage, family: DirectiveFamily, lineAt: (line: number) => string): Fix {
+  const edits: TextEdit[] = [{ range: t.at!, newText: pieces[0] }];
+  const after = t.range.end.line + 1;
+  const indent = /^\s*/.exec(lineAt(t.range.start.line))![0];
+  const more = pieces.slice(1).map((p) => `${indent}${updateDirective(family, lang, t.direction, p)}\n`).join('');
+  if (more) edits.push({ range: { start: { line: after, col: 0 }, end: { line: after, col: 0 } }, newText: more });
+  return { title: pieces.length === 1 ? `Narrow the update to \`${pieces[0]}\`` : `Narrow the update to ${pieces.length} sections (${pieces.map((p) => `\`${p}\``).join(', ')})`, edits };
+}
+
+/** The variable a clause names at `at` (`v` in `v[0:n]`, `u` in `u(:, :)`), as written. */
+function writtenName(lineAt: (line: number) => string, at: Range | undefined): string | undefined {
+  if (!at || at.start.line !== at.end.line) return undefined;
+  const line = lineAt(at.start.line) ?? '';
+  return /^\s*([A-Za-z_][\w%]*(?:(?:\.|->)[A-Za-z_]\w*)*)/.exec(line.slice(at.start.col, at.end.col))?.[1];
 }
 
 /** Line insertions (before 1-based lines) as text edits at the start of those lines. */

@@ -88,6 +88,35 @@ export function union(r: Region, s: Region): Region {
   return out.length > MAX_BOXES ? [bounding(out)] : out;
 }
 
+/** The union of possibly overlapping boxes as disjoint boxes, so its size counts each element once. */
+export function disjoint(r: Region): Region {
+  let acc: Region = [];
+  for (const b of r) acc = [...acc, ...subtract([b], acc)];
+  return acc;
+}
+
+/**
+ * Disjoint boxes joined where two together are exactly a box (neighbouring rows of one plane,
+ * halves of one plane), until no two are: the fewest exact boxes a simple pairwise pass finds.
+ */
+export function exactBoxes(r: Region): Region {
+  const boxes = disjoint(r).filter((b) => !isEmptyBox(b));
+  for (let joined = true; joined; ) {
+    joined = false;
+    for (let i = 0; i < boxes.length && !joined; i++) {
+      for (let j = i + 1; j < boxes.length && !joined; j++) {
+        const u = bounding([boxes[i], boxes[j]]);
+        if (boxSize(u) === boxSize(boxes[i]) + boxSize(boxes[j])) {
+          boxes[i] = u;
+          boxes.splice(j, 1);
+          joined = true;
+        }
+      }
+    }
+  }
+  return boxes;
+}
+
 export function bounding(r: Region): Box {
   return {
     lo: r[0].lo.map((_, d) => Math.min(...r.map((b) => b.lo[d]))),

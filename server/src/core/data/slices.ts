@@ -8,7 +8,7 @@ import * as S from '../symbolic';
 import type { SourceLanguage } from '../types';
 import type { ArrayInfo } from './arrays';
 import type { HostTouch } from './interpreter';
-import { type Region, bounding } from './regions';
+import { type Box, type Region, bounding, exactBoxes } from './regions';
 
 const src = (e: S.Expr, lang: SourceLanguage): string => S.toSource(e, lang === 'fortran' ? 'fortran' : 'c');
 
@@ -99,4 +99,65 @@ export function regionSectionText(region: Region, name: string, info: ArrayInfo,
   const start = b.lo.reduce((n, v, d) => n + v * strides[d], 0);
   const end = b.hi.reduce((n, v, d) => n + v * strides[d], 0);
   return `${name}[${start}:${end - start + 1}]`;
+}
+
+/** At most this many sections in one narrowed update; beyond it one bounding section is shorter to read. */
+const MAX_SECTIONS = 8;
+
+/**
+ * Elements a section of one box moves as it is written: Fortran sections take the box exactly; a
+ * C section of a multi-dimensional array takes whole rows after its first dimension that spans
+ * more than one index (contiguity, see `contiguous`); a linearised pointer moves one contiguous range.
+ */
+export function sectionElements(b: Box, info: ArrayInfo, lang: SourceLanguage): number {
+  const { strides, extents } = info.shape;
+  if (lang === 'fortran') return b.lo.reduce((n, lo, d) => n * (b.hi[d] - lo + 1), 1);
+  const multi = info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1;
+  if (multi) {
+    const dims = [...b.lo.keys()].reverse();
+    const first = dims.findIndex((d) => b.hi[d] !== b.lo[d]);
+    return dims.reduce((n, d, k) => n * (first >= 0 && k > first ? extents[d] : b.hi[d] - b.lo[d] + 1), 1);
+  }
+  const start = b.lo.reduce((n, v, d) => n + v * strides[d], 0);
+  const end = b.hi.reduce((n, v, d) => n + v * strides[d], 0);
+  return end - start + 1;
+}
+
+/**
+ * Exact sections for a region: one per box that the region's boxes join into (two planes of a
+ * 3-D array are two sections, not the bounding box between them), in memory order, with the
+ * elements they move together. More than MAX_SECTIONS boxes give one bounding section.
+ */
+export function regionSections(region: Region, name: string, info: ArrayInfo, lang: SourceLanguage): { texts: string[]; elements: number } {
+  let boxes = exactBoxes(region);
+  const { extents } = info.shape;
+  if (lang !== 'fortran' && info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1) {
+    // C sections of a multi-dimensional array take whole rows inside their first wide dimension;
+    // widen first so that two sections never overlap (the same element moved twice).
+    boxes = exactBoxes(boxes.map((b) => widenedBox(b, extents)));
+  }
+  if (boxes.length === 0) return { texts: [name], elements: 0 };
+  if (boxes.length > MAX_SECTIONS) return { texts: [regionSectionText(region, name, info, lang)], elements: sectionElements(bounding(region), info, lang) };
+  const start = (b: Box): number => b.lo.reduce((n, v, d) => n + v * info.shape.strides[d], 0);
+  boxes.sort((a, b) => start(a) - start(b));
+  return {
+    texts: boxes.map((b) => regionSectionText([b], name, info, lang)),
+    elements: boxes.reduce((n, b) => n + sectionElements(b, info, lang), 0),
+  };
+}
+
+/** A box as a C section of it moves: every dimension inside the first one wider than one index taken whole. */
+function widenedBox(b: Box, extents: readonly number[]): Box {
+  const dims = [...b.lo.keys()].reverse();
+  const first = dims.findIndex((d) => b.hi[d] !== b.lo[d]);
+  if (first < 0) return b;
+  const lo = [...b.lo];
+  const hi = [...b.hi];
+  dims.forEach((d, k) => {
+    if (k > first) {
+      lo[d] = 0;
+      hi[d] = extents[d] - 1;
+    }
+  });
+  return { lo, hi };
 }

@@ -10,6 +10,7 @@ import { printValue, toSymbolic } from '../../model/values';
 import { parseExpr } from '../../symbolic';
 import { subscriptSymbolic } from './expressionsClamps';
 import { MacroTable, instantiate } from './macros';
+import { unparenthesisedParameters } from './parenNames';
 import { type Node, field, namedChildren, operatorOf, rangeOf, unparen } from './nodes';
 
 export interface ExprContext {
@@ -212,7 +213,7 @@ export class CExpressionBuilder {
     if (!macro) return undefined;
     if (macro.template === undefined) {
       macro.template = null;
-      const tree = this.ctx.parser.parse(`int __offload_ledger_macro = (${macro.body});`);
+      const tree = this.ctx.parser.parse(`int __offload_ledger_macro = (${unparenthesisedParameters(macro.body, macro.params)});`);
       const init = tree?.rootNode.descendantsOfType('init_declarator')[0];
       const value = init ? field(init, 'value') : undefined;
       if (value && !value.hasError) {

@@ -20,6 +20,7 @@ import { TemplateUses, TypeAliases } from './templates';
 import { readStepCounters } from '../../model/stepCounters';
 import { markedLoopLines } from '../annotations';
 import { inputDefaults } from './inputDefaults';
+import { unparenthesisedValueNames } from './parenNames';
 
 /**
  * `source` is the preprocessed text (inactive branches blanked, same lines and columns) with the
@@ -29,9 +30,19 @@ export function buildCModel(parser: Parser, source: string | Preprocessed, path:
   const model = emptyModel(path, language);
   const pp = typeof source === 'string' ? preprocess(source, { path, language }) : source;
   model.findings.push(...pp.findings);
-  const text = pp.text;
-  const tree = parser.parse(text);
+  let text = pp.text;
+  let tree = parser.parse(text);
   if (!tree) return model;
+  // `(i) + 1` read as a cast of `+1` to a type `i`: parse again with those parentheses blanked.
+  const again = unparenthesisedValueNames(tree.rootNode, text);
+  if (again !== undefined) {
+    const second = parser.parse(again);
+    if (second) {
+      tree.delete();
+      tree = second;
+      text = again;
+    }
+  }
   try {
     new CModelBuilder(parser, text, language, model, pp.macros).build(tree.rootNode);
   } finally {
