@@ -8,7 +8,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { buildView } from '../server/src/lsp/view/build';
-import { ROOT, analyzeFile, runCli, schemaValidator } from './helpers';
+import { ROOT, analyzeFile, analyzeText, runCli, schemaValidator } from './helpers';
 
 describe('cautions', () => {
   it('the JSON report says what the estimates rest on, and that measurement decides', () => {
@@ -76,6 +76,25 @@ describe('cautions', () => {
     expect(races.length).toBeGreaterThan(0);
     for (const r of races) expect(r.message).not.toMatch(/\w\[[^\]]*\]/);
     expect(races.some((r) => /`a\(i - 1\)`/.test(r.message))).toBe(true);
+  });
+
+  it('race messages quote the access as written (the index macro), not its expansion', async () => {
+    const src = [
+      '#define NX 64',
+      '#define NY 64',
+      '#define IDX(i, j) ((i) + NX * (j))',
+      'void sweep(double *u) {',
+      '#pragma acc parallel loop collapse(2) present(u)',
+      '  for (int j = 1; j < NY - 1; j++)',
+      '    for (int i = 1; i < NX - 1; i++)',
+      '      u[IDX(i, j)] = 0.5 * (u[IDX(i - 1, j)] + u[IDX(i + 1, j)]);',
+      '}',
+    ].join('\n');
+    const a = await analyzeText(src, 'inplace.c');
+    const races = a.findings.filter((f) => f.code === 'loop-carried-dependence').map((f) => f.message);
+    expect(races).toHaveLength(2);
+    expect(races[0]).toMatch(/reads `u\[IDX\(i - 1, j\)\]`, which iteration i - 1 writes as `u\[IDX\(i, j\)\]`/);
+    expect(races.join('\n')).not.toMatch(/NX \*|\(unknown\)/);
   });
 
   it('nothing is silently zero: an indirect subscript and an unknown call are listed with what they do, and the nest is marked', () => {

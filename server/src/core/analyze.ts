@@ -270,7 +270,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       report.estimate = nestEstimate(iterations.value, cost, profile, baseline);
       (nest.procedure.origin ? external : result.nests).push(report);
     }
-    result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n)));
+    result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n), input.text));
     const ownTimeLoops = scan.timeLoops.filter((t) => !t.procedure.origin);
     const allNests = external.length > 0 ? [...result.nests, ...external] : result.nests;
     const strides = new Map<string, S.Expr[][]>();

@@ -36,10 +36,22 @@ import { solveDistances, type Distance } from './distances';
 
 /** Elements are written as the language writes them: `u[j][i]` in C, `u(i, j)` in Fortran. */
 let fortranText = false;
-const elementText = (array: string, subscripts: readonly string[]): string => (fortranText ? `${array}(${subscripts.join(', ')})` : `${array}[${subscripts.join('][')}]`);
+/** The source lines of the file being checked, split once when a message first needs one. */
+let sourceLine: ((line: number) => string | undefined) | undefined;
+/**
+ * An element as the user wrote it (`u[IDX(i-1,j)]`, `U(i-1,j)`: the source text of the access,
+ * never the macro's expansion); the model's own form when the source is not at hand.
+ */
+const elementText = (array: string, subscripts: readonly string[], at?: Range): string => {
+  const written = at && at.start.line === at.end.line ? sourceLine?.(at.start.line)?.slice(at.start.col, at.end.col).trim() : undefined;
+  if (written && written.length <= 80 && !/[\n;{}]/.test(written)) return written.replace(/\s+/g, ' ');
+  return fortranText ? `${array}(${subscripts.join(', ')})` : `${array}[${subscripts.join('][')}]`;
+};
 
-export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>): Finding[] {
+export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf: (n: LoopNest) => ReadonlyMap<string, S.Expr>, text?: string): Finding[] {
   fortranText = model.language === 'fortran';
+  let lines: string[] | undefined;
+  sourceLine = text === undefined ? undefined : (n) => (lines ??= text.split('\n'))[n];
   const out: Finding[] = [];
   for (const nest of nests) {
     if (!nest.offload) continue;
@@ -512,8 +524,8 @@ function boundedCarrier(w: Ref, x: Ref, parallel: Set<LoopStmt>, bindings: Reado
 
 function boundedMessage(array: string, w: Ref, x: Ref, c: Bounded): Finding {
   const v = c.loop.variable ?? '?';
-  const wText = elementText(array, w.access.subscriptText);
-  const xText = elementText(array, x.access.subscriptText);
+  const wText = elementText(array, w.access.subscriptText, w.access.range);
+  const xText = elementText(array, x.access.subscriptText, x.access.range);
   const names = c.loops.map((l) => l.variable).join(', ');
   const steps = c.shown.map((d) => (d.startsWith('-') ? d : `+${d}`)).join(', ');
   const touch = c.kind === 'output'
@@ -528,8 +540,8 @@ function boundedMessage(array: string, w: Ref, x: Ref, c: Bounded): Finding {
 
 function message(array: string, w: Ref, x: Ref, c: Carried): Finding {
   const v = c.loop.variable ?? '?';
-  const wText = elementText(array, w.access.subscriptText);
-  const xText = elementText(array, x.access.subscriptText);
+  const wText = elementText(array, w.access.subscriptText, w.access.range);
+  const xText = elementText(array, x.access.subscriptText, x.access.range);
   const what = c.kind === 'flow'
     ? `iteration ${v} reads \`${xText}\`, which iteration ${v} - ${c.distance} writes as \`${wText}\``
     : c.kind === 'anti'
