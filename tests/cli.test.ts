@@ -32,8 +32,8 @@ describe('offload-ledger check', () => {
     expect(r.status).toBe(0);
     expect(r.stdout).toMatch(/line\s+function\s+variables\s+offloaded\s+flop\/it\s+B\/it dev\s+B\/it host\s+AI dev\s+AI host\s+kernel speedup vs whole node\s+iterations/);
     // 2-D Jacobi: 4 flops, 16 device bytes, 24 host bytes per point (hand count; see fixtures/cost).
-    expect(r.stdout).toMatch(/48\s+main\s+j,i\s+yes \(openacc\)\s+4\s+16\s+24\s+0\.25\s+0\.17\s+[\d.]+–[\d.]+× \(memory\)\s+1,044,484/);
-    expect(r.stdout).toMatch(/bound by transfer; with the suggested data region [\d.]+–[\d.]+× \(bound by memory\)/);
+    expect(r.stdout).toMatch(/48\s+main\s+j,i\s+yes \(openacc\)\s+4\s+16\s+24\s+0\.25\s+0\.17\s+[\d.]+–[\d.]+× \(device memory\)\s+1,044,484/);
+    expect(r.stdout).toMatch(/bound by the link; with the suggested data region [\d.]+–[\d.]+× \(bound by device memory\)/);
     expect(r.stdout).toContain('roofline on profile pcie4-hbm2e');
     // Two constructs copy u and unew (8 MiB each) both ways every step, a third every 100 steps.
     expect(r.stdout).toMatch(/time loop at line 46 \(t, 500 \(STEPS\) steps\): per step 32\.2 MiB to device, 32\.2 MiB to host/);

@@ -114,7 +114,7 @@ describe('planning view', () => {
     // The one array u: 8192 B to the device per step as written, nothing with the region (the data above).
     expect(html).toContain('aria-label="u, as written, to the device: 8192 B per step"');
     expect(html).toContain('0.4–0.6× (expected 0.5×)');
-    expect(html).toContain('bound by transfers across the link');
+    expect(html).toContain('bound by the link');
     expect(html).toContain('7–10× (expected 9×)');
   });
   it('shows workspace-relative paths and opens source lines through the one command the webview allows', () => {

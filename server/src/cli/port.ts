@@ -17,6 +17,7 @@ import type { PortArgs } from './args';
 import { InputError, readHeader, readSource } from './files';
 import { chooseProfile, readMachinesFile } from './machines';
 import { factor, seconds, spread } from './text';
+import { boundWords } from '../core/estimate/terms';
 
 /** The first syntax error of a C or C++ text (tree-sitter), or of a Fortran file (gfortran -fsyntax-only, when installed). */
 function firstSyntaxError(path: string, text: string, language: string, parse: ((t: string) => Node | undefined) | undefined): string | undefined {
@@ -86,7 +87,7 @@ function planLines(tl: TimeLoopReport, p: NonNullable<TimeLoopReport['plans']>):
   const sp = (s: { low: number; expected: number; high: number } | null): string => (s ? `${spread(s)} (expected ${factor(s.expected)}×)` : 'no estimate');
   const out = [`time loop at line ${line}: ${p.offloaded.length} nest${p.offloaded.length === 1 ? '' : 's'} offloaded with ${p.family === 'openacc' ? 'OpenACC' : 'OpenMP'}, a data region around the loop${p.updates.length > 0 ? ` and ${p.updates.length} update${p.updates.length === 1 ? '' : 's'}` : ''}`];
   if (p.hostStepSeconds !== null && p.resident.stepSeconds !== null) {
-    out.push(`  estimate (roofline, ${p.baseline === 'core' ? 'one-core' : 'whole-node'} baseline): step ${seconds(p.hostStepSeconds)} on the host → ${seconds(p.resident.stepSeconds)} ported; speedup ${sp(p.resident.speedup)}, bound by ${p.resident.bound}. Measure on the target machine to decide.`);
+    out.push(`  estimate (roofline, ${p.baseline === 'core' ? 'one-core' : 'whole-node'} baseline): step ${seconds(p.hostStepSeconds)} on the host → ${seconds(p.resident.stepSeconds)} ported; speedup ${sp(p.resident.speedup)}, bound by ${boundWords(p.resident.bound)}. Measure on the target machine to decide.`);
   }
   for (const h of p.onHost) out.push(`  left on the host: line ${h.line} (${h.procedure}): ${h.reason}`);
   return out;

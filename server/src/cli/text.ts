@@ -4,6 +4,7 @@ import type { Quantity } from '../core/analysis/bindings';
 import type { TimeLoopReport } from '../core/analyze';
 import { formatBytes } from '../core/symbolic';
 import { nestVariablesText } from '../core/analysis/nests';
+import { STEP_TERMS, boundWords } from '../core/estimate/terms';
 
 export function formatQuantity(q: Quantity): string {
   if (q.value === null) return q.expr;
@@ -43,7 +44,7 @@ export function formatFile(a: FileAnalysis): string {
         r.cost.intensity.host === undefined ? '-' : r.cost.intensity.host.toFixed(2),
         // A loop that runs on the host has no speedup yet: what it shows is what offloading it could pay.
         r.estimate?.speedup
-          ? `${spread(r.estimate.speedup)} (${r.estimate.bound})${n.offload ? '' : ' if offloaded'}`
+          ? `${spread(r.estimate.speedup)} (${boundWords(r.estimate.bound)})${n.offload ? '' : ' if offloaded'}`
           : r.iterations.value === null ? '- (a size is unbound)' : r.estimate?.hostSeconds === 0 ? '- (no work)' : '-',
         formatQuantity(r.iterations) + (r.approximate ? ' (approx., triangular)' : ''),
       ]);
@@ -104,8 +105,8 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
     if (e?.hostSeconds !== null && e?.hostSeconds !== undefined) out.push(`    per step on the host today: ${seconds(e.hostSeconds)} (${t.plans.baseline === 'core' ? 'one core' : 'the whole node'})`);
     out.push(...formatPlans(t.plans));
   } else if (e && e.speedup && e.hostSeconds !== null && e.deviceSeconds !== null) {
-    out.push(`    per step: host ${seconds(e.hostSeconds)}; offloaded ${seconds(e.deviceSeconds)} = kernels ${seconds(e.kernelSeconds!)} + launches ${seconds(e.launchSeconds!)} + transfers ${seconds(e.transferSeconds!)} + host code ${seconds(e.hostLeftSeconds!)}`);
-    out.push(`    speedup ${spread(e.speedup)} (expected ${factor(e.speedup.expected)}×), bound by ${e.bound}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${e.withRegion.bound})` : ''}`);
+    out.push(`    per step: host ${seconds(e.hostSeconds)}; offloaded ${seconds(e.deviceSeconds)} = ${STEP_TERMS.kernels} ${seconds(e.kernelSeconds!)} + ${STEP_TERMS.launches} ${seconds(e.launchSeconds!)} + ${STEP_TERMS.transfers} ${seconds(e.transferSeconds!)} + ${STEP_TERMS.host} ${seconds(e.hostLeftSeconds!)}`);
+    out.push(`    speedup ${spread(e.speedup)} (expected ${factor(e.speedup.expected)}×), bound by ${boundWords(e.bound)}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${boundWords(e.withRegion.bound)})` : ''}`);
     if (e.residentBytes !== null) out.push(`    resident on the device: ${formatBytes(e.residentBytes)}${e.runsPerDevice !== null ? `; ${e.runsPerDevice} run${e.runsPerDevice === 1 ? '' : 's'} fit on one device` : ''}`);
   }
   const r = l.dataRegion;
@@ -128,7 +129,7 @@ function formatPlans(p: NonNullable<TimeLoopReport['plans']>): string[] {
   const figs = (f: typeof p.naive): string => {
     const moved = f.bytesPerStep.toDevice === null || f.bytesPerStep.toHost === null ? 'bytes per step unbound' : `${formatBytes(f.bytesPerStep.toDevice)} to device, ${formatBytes(f.bytesPerStep.toHost)} to host per step`;
     const step = f.stepSeconds !== null ? `; step ${seconds(f.stepSeconds)}` : '';
-    const speed = f.speedup ? `; speedup ${spread(f.speedup)} (expected ${factor(f.speedup.expected)}×), bound by ${f.bound}` : '; no estimate (a size is unbound)';
+    const speed = f.speedup ? `; speedup ${spread(f.speedup)} (expected ${factor(f.speedup.expected)}×), bound by ${boundWords(f.bound)}` : '; no estimate (a size is unbound)';
     const fit = f.residentBytes !== null ? `; ${formatBytes(f.residentBytes)} on the device${f.fits === false ? ', MORE than the device memory' : ', fits'}` : '';
     return `${moved}${step}${speed}${fit}`;
   };

@@ -16,6 +16,7 @@ import type { TopLevelSpec } from 'vega-lite';
 import type { PlanningMachine, ReportTimeLoop, ReportTransfer } from '../lsp/protocol';
 import { byteUnit, bytes, seconds } from './format';
 import type { NestRow, TimeLoopRow } from './summary';
+import { STEP_TERMS } from '../core/estimate/terms';
 
 export const COLORS = {
   device: '#3b82c4',
@@ -341,7 +342,7 @@ export interface StepTimes {
   region: { kernels: number; launches: number; transfers: number; host: number } | null;
 }
 
-const TERMS = { hostOnly: 'host only', kernels: 'kernels', launches: 'launches', transfers: 'transfers', host: 'host code in the loop' } as const;
+const TERMS = { hostOnly: 'host only', ...STEP_TERMS } as const;
 
 function timeUnit(max: number): { name: string; size: number } {
   return max >= 1 ? { name: 's', size: 1 } : max >= 1e-3 ? { name: 'ms', size: 1e-3 } : max >= 1e-6 ? { name: 'µs', size: 1e-6 } : { name: 'ns', size: 1e-9 };

@@ -17,6 +17,7 @@ import { COLORS, PLANS, type LinkTarget, projectTransfersSpec, rooflineChart, ti
 import { bytes, esc, factor, intensity, percent, rate, seconds } from './format';
 import { type NestRow, type Summary, type TimeLoopRow, stepSeconds, summarise } from './summary';
 import { renderSvg } from './vega';
+import { boundWords } from '../core/estimate/terms';
 
 export { bytes, seconds } from './format';
 
@@ -56,15 +57,7 @@ interface Ctx {
   markHref: (t: LinkTarget) => string;
 }
 
-const BOUND_WORDS: Record<string, string> = {
-  memory: 'device memory bandwidth',
-  compute: 'device compute',
-  transfer: 'transfers across the link',
-  launch: 'kernel launches',
-  host: 'host code left in the loop',
-};
-
-const bound = (b: string | null | undefined): string => (b ? BOUND_WORDS[b] ?? b : '—');
+const bound = (b: string | null | undefined): string => boundWords(b);
 
 function speedup(s: { low: number; expected: number; high: number } | null | undefined): string {
   return s ? `${factor(s.low)}–${factor(s.high)}× (expected ${factor(s.expected)}×)` : '—';

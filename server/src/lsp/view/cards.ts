@@ -12,6 +12,7 @@ import type { TransferReport } from '../../core/data/ledger';
 import type { NestEstimate, StepEstimate } from '../../core/estimate/types';
 import type { ViewContext, ArraySize } from './context';
 import { boundText, bytesMd, codeSpan, countMd, formatBytes, formatFactor, formatIntensity, formatPerIteration, formatSeconds, formatSpeedup } from './format';
+import { STEP_TERMS } from '../../core/estimate/terms';
 
 export interface CardSettings {
   profileName: string;
@@ -82,7 +83,7 @@ export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, c
   if (l.residentBytes !== null) rows.push(['resident on the device', formatBytes(l.residentBytes)]);
   if (est) {
     rows.push(['host step', formatSeconds(est.hostSeconds)]);
-    rows.push(['device step', `${formatSeconds(est.deviceSeconds)} (kernels ${formatSeconds(est.kernelSeconds)} · launches ${formatSeconds(est.launchSeconds)} · transfers ${formatSeconds(est.transferSeconds)} · host code ${formatSeconds(est.hostLeftSeconds)})`]);
+    rows.push(['device step', `${formatSeconds(est.deviceSeconds)} (${STEP_TERMS.kernels} ${formatSeconds(est.kernelSeconds)} · ${STEP_TERMS.launches} ${formatSeconds(est.launchSeconds)} · ${STEP_TERMS.transfers} ${formatSeconds(est.transferSeconds)} · ${STEP_TERMS.host} ${formatSeconds(est.hostLeftSeconds)})`]);
     rows.push(['speedup', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
     if (est.withRegion) rows.push(['with the suggested data region', est.withRegion.speedup ? `${formatSpeedup(est.withRegion.speedup)}, bound by ${boundText(est.withRegion.bound)}` : '—']);
     if (est.runsPerDevice !== null) rows.push(['runs per device', String(est.runsPerDevice)]);

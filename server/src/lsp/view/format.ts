@@ -1,6 +1,7 @@
 /** Number formats of the editor views: bytes (the core's own format), seconds, speedup ranges. */
 import { formatBytes } from '../../core/symbolic';
 import type { Bound, Spread } from '../../core/estimate/types';
+import { boundWords } from '../../core/estimate/terms';
 
 export { formatBytes };
 
@@ -48,16 +49,8 @@ export function formatSpeedup(s: Spread | null | undefined): string {
   return `${formatFactor(s.low)}–${formatFactor(s.high)}×`;
 }
 
-const BOUND_TEXT: Record<Bound, string> = {
-  memory: 'device memory bandwidth',
-  compute: 'device compute',
-  transfer: 'host–device transfers',
-  launch: 'kernel launches',
-  host: 'host code left in the loop',
-};
-
 export function boundText(b: Bound | null | undefined): string {
-  return b ? BOUND_TEXT[b] : '—';
+  return boundWords(b);
 }
 
 export function formatIntensity(x: number | undefined): string {
