@@ -107,7 +107,7 @@ function formatTimeLoop(t: TimeLoopReport): string[] {
   } else if (e && e.speedup && e.hostSeconds !== null && e.deviceSeconds !== null) {
     out.push(`    per step: host ${seconds(e.hostSeconds)}; offloaded ${seconds(e.deviceSeconds)} = ${STEP_TERMS.kernels} ${seconds(e.kernelSeconds!)} + ${STEP_TERMS.launches} ${seconds(e.launchSeconds!)} + ${STEP_TERMS.transfers} ${seconds(e.transferSeconds!)} + ${STEP_TERMS.host} ${seconds(e.hostLeftSeconds!)}`);
     out.push(`    speedup ${spread(e.speedup)} (expected ${factor(e.speedup.expected)}×), bound by ${boundWords(e.bound)}${e.withRegion?.speedup ? `; with the suggested data region ${spread(e.withRegion.speedup)} (bound by ${boundWords(e.withRegion.bound)})` : ''}`);
-    if (e.residentBytes !== null) out.push(`    resident on the device: ${formatBytes(e.residentBytes)}${e.runsPerDevice !== null ? `; ${e.runsPerDevice} run${e.runsPerDevice === 1 ? '' : 's'} fit on one device` : ''}`);
+    if (e.residentBytes !== null) out.push(`    resident on the device: ${formatBytes(e.residentBytes)}${e.runsPerDevice !== null ? `; ${e.runsPerDevice.toLocaleString('en-US')} run${e.runsPerDevice === 1 ? ' fits' : 's fit'} on one device` : ''}`);
   }
   const r = l.dataRegion;
   if (r) {

@@ -263,7 +263,7 @@ async function timeLoopSection(ctx: Ctx, f: PlanningFile, r: TimeLoopRow, focuse
     for (const h of p.onHost) rows.push([`stays on the host: line ${h.line}`, esc(h.reason)]);
     if (p.hostShare !== null && p.offloaded.length > 0) rows.push(['host code in the resident step', `${(100 * p.hostShare).toFixed(p.hostShare < 0.1 ? 1 : 0)}% (Amdahl)`]);
   }
-  if (e?.runsPerDevice != null) rows.push(['independent runs per device', String(e.runsPerDevice)]);
+  if (e?.runsPerDevice != null) rows.push(['independent runs per device', e.runsPerDevice.toLocaleString('en-US')]);
   const region = t.dataRegion
     ? `<p>Suggested data region: <code>${esc(t.dataRegion.clauses.map((c) => `${c.clause}(${c.section ?? c.array})`).join(' '))}</code>${t.dataRegion.edits.length > 0 ? ` (${t.dataRegion.edits.length} line${t.dataRegion.edits.length === 1 ? '' : 's'} to insert; the quick fix on the finding applies them)` : ''}</p>${updatesList(t.dataRegion.edits)}`
     : '';

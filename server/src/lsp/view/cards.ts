@@ -86,7 +86,7 @@ export function timeLoopCard(t: TimeLoopReport, est: StepEstimate | undefined, c
     rows.push(['device step', `${formatSeconds(est.deviceSeconds)} (${STEP_TERMS.kernels} ${formatSeconds(est.kernelSeconds)} · ${STEP_TERMS.launches} ${formatSeconds(est.launchSeconds)} · ${STEP_TERMS.transfers} ${formatSeconds(est.transferSeconds)} · ${STEP_TERMS.host} ${formatSeconds(est.hostLeftSeconds)})`]);
     rows.push(['speedup', est.speedup ? `${formatSpeedup(est.speedup)} (expected ${formatFactor(est.speedup.expected)}×), bound by ${boundText(est.bound)}` : '— (a size is unbound)']);
     if (est.withRegion) rows.push(['with the suggested data region', est.withRegion.speedup ? `${formatSpeedup(est.withRegion.speedup)}, bound by ${boundText(est.withRegion.bound)}` : '—']);
-    if (est.runsPerDevice !== null) rows.push(['runs per device', String(est.runsPerDevice)]);
+    if (est.runsPerDevice !== null) rows.push(['runs per device', est.runsPerDevice.toLocaleString('en-US')]);
   } else {
     rows.push(['speedup', '— (not estimated)']);
   }
