@@ -78,6 +78,29 @@ describe('cautions', () => {
     expect(races.some((r) => /`a\(i - 1\)`/.test(r.message))).toBe(true);
   });
 
+  it('one program, one baseline: a serial file of a project whose other files run in parallel is measured against the node', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'ol-baseline-'));
+    try {
+      writeFileSync(join(dir, 'sweep.c'), [
+        '#define N 4096',
+        'void sweep(double *a, const double *b) {',
+        '#pragma omp target teams distribute parallel for map(tofrom: a[0:N]) map(to: b[0:N])',
+        '  for (int i = 0; i < N; i++) a[i] += b[i];',
+        '}',
+      ].join('\n'));
+      writeFileSync(join(dir, 'setup.c'), ['#define N 4096', 'void setup(double *a) {', '  for (int i = 0; i < N; i++) a[i] = 0.5 * i;', '}'].join('\n'));
+      // A file with its own main is a program of its own, even in the same folder.
+      writeFileSync(join(dir, 'alone.c'), ['#define N 4096', 'static double x[N];', 'int main(void) {', '  for (int i = 0; i < N; i++) x[i] = 2.0 * i;', '  return 0;', '}'].join('\n'));
+      const text = runCli(['check', dir]).stdout;
+      const baselineOf = (file: string): string => /estimates: [^\n]*?(one-core|whole-node) baseline \(([^)]*)\)/.exec(text.slice(text.indexOf(`${file}  (`)))!.slice(1, 3).join(': ');
+      expect(baselineOf('setup.c')).toBe('whole-node: a program whose other files already run in parallel');
+      expect(baselineOf('sweep.c')).toBe('whole-node: code that already runs in parallel');
+      expect(baselineOf('alone.c')).toBe('one-core: serial code');
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
   it('race messages quote the access as written (the index macro), not its expansion', async () => {
     const src = [
       '#define NX 64',

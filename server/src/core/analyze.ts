@@ -18,6 +18,7 @@ import { type LoopNest, type RejectedLoop, type TimeLoop, nestIterations, scanLo
 import { type NestCost, nestCost } from './cost/ledger';
 import { raceFindings } from './analysis/races';
 import { type TimeLoopLedger, type TransferReport, dataLedger, programTransfers } from './data/ledger';
+import { isMain } from './data/entry';
 import { applyLineEdits } from './data/edits';
 import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/profiles';
 import { nestEstimate } from './estimate/nest';
@@ -130,7 +131,19 @@ function unmatchedBindings(model: ProgramModel, user: ReadonlyMap<string, number
  * (OpenMP `parallel`/`for`/`do`/`loop`/`taskloop` without `target`, Fortran `do concurrent`) or
  * offloads (a port compares with the node it replaces).
  */
+const baselines = new WeakMap<ProgramModel, Baseline>();
+
+/** Serial code is measured against one core, code with directives or `do concurrent` against the node (once per model). */
 export function defaultBaseline(model: ProgramModel): Baseline {
+  let b = baselines.get(model);
+  if (b === undefined) {
+    b = modelBaseline(model);
+    baselines.set(model, b);
+  }
+  return b;
+}
+
+function modelBaseline(model: ProgramModel): Baseline {
   if (model.directives.length > 0) return 'node';
   let concurrent = false;
   for (const p of model.procedures) {
@@ -230,9 +243,17 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     const built = input.model ?? buildModel(input, deps, options);
     result.model = built;
     if (!options.baseline) {
-      baseline = defaultBaseline(built);
+      // One program, one baseline: a serial file of a project whose other files run in parallel
+      // is measured against the whole node too. A file with its own main program is a program
+      // of its own (a folder of examples is not one program).
+      const own = defaultBaseline(built);
+      const program = built.procedures.some((p) => (p.program || isMain(p.name)) && !p.origin);
+      const elsewhere = own === 'core' && !program && (options.workspace ?? []).some((m) => m !== built && m.path !== built.path && defaultBaseline(m) === 'node');
+      baseline = elsewhere ? 'node' : own;
       result.baseline = baseline;
-      result.baselineReason = baseline === 'core' ? 'serial code: one core' : 'code that already runs in parallel: the whole node';
+      result.baselineReason = baseline === 'core'
+        ? 'serial code: one core'
+        : elsewhere ? 'a program whose other files already run in parallel: the whole node' : 'code that already runs in parallel: the whole node';
     }
     // The file as its workspace resolves it (a Fortran `use` of another file's module): the
     // views read bindings and procedures from this model, so they must see the same names. A

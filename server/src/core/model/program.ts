@@ -182,6 +182,8 @@ export type Stmt = LoopStmt | AssignStmt | CallStmt | IfStmt | BlockStmt | Direc
 
 export interface Procedure {
   name: string;
+  /** A Fortran main program (`program name`): the entry of its program whatever its name. */
+  program?: true;
   range: Range;
   nameRange: Range;
   params: Declaration[];

@@ -263,7 +263,7 @@ export class UnitReader {
     if (internal) scope.trackReferences();
     const created: Declaration[] = [];
     const ctx = this.context(scope, new Set(dummies), created, 'local');
-    const proc: Procedure = { name, range: start, nameRange, params: [], locals: [], body: [], bindings: new Map() };
+    const proc: Procedure = { name, ...(kind === 'program' ? { program: true as const } : {}), range: start, nameRange, params: [], locals: [], body: [], bindings: new Map() };
     this.model.procedures.push(proc);
     this.units.push({ procedure: proc, scope });
     if (header && kind === 'function') this.functionResult(ctx, header, kw, after, name, nameRange);
