@@ -84,7 +84,14 @@ export function nestCost(nest: LoopNest, model: ProgramModel, bindings: Readonly
     arrayFootprint(array, list, nestVars, scope.lookup(array), model.layout, scope.typeOf(array)?.bytes ?? 8),
   );
   centreOffsets(footprints);
-  const t = traffic(footprints, nestVars, trips, outer, options.cacheBytes);
+  // A tile's element loop (`i` from `it` to `it + T - 1`) moves with its tile loop too.
+  const carries = new Map<string, Set<string>>();
+  for (const l of loops) {
+    if (!l.variable) continue;
+    const mentioned = [...(l.lower ? S.freeSymbols(l.lower) : []), ...(l.upper ? S.freeSymbols(l.upper) : [])].filter((v) => v !== l.variable && nestVars.includes(v));
+    for (const v of mentioned) carries.set(v, new Set([...(carries.get(v) ?? []), l.variable]));
+  }
+  const t = traffic(footprints, nestVars, trips, outer, options.cacheBytes, carries);
   return {
     flopsPerIteration,
     weighted: weightedOk,

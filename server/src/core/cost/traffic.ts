@@ -50,6 +50,7 @@ export function traffic(
   trips: Map<string, number | undefined>,
   bindings: ReadonlyMap<string, S.Expr>,
   cacheBytes: number,
+  carries: ReadonlyMap<string, ReadonlySet<string>> = new Map(),
 ): Traffic {
   const layerChecks = checkLayers(footprints, nestVars, bindings, cacheBytes);
   // The highest dimension index (contiguous = 0) up to which layers are reused, per nest variable order.
@@ -57,7 +58,7 @@ export function traffic(
   for (const c of layerChecks) reusedUpTo.set(c.variable, c.holds !== false);
   const arrays: ArrayTraffic[] = [];
   for (const fp of footprints) {
-    const fraction = touchFraction(fp, nestVars, trips);
+    const fraction = touchFraction(fp, nestVars, trips, carries);
     // Re-reads of elements this iteration already touched move nothing (covered). Regular reads
     // share one stream; each irregular read (no offsets) is an element of its own.
     const irregularReads = fp.irregular ? fp.accesses.filter((a) => moves(a) && !a.offsets).length : 0;
@@ -80,14 +81,17 @@ export function traffic(
 /**
  * 1 / (product of the trip counts of nest variables the array does not move with): a
  * coefficient array c[i] inside a (k, j, i) nest is reused across j and k, so it costs
- * 1/(NJ*NK) of an element per iteration. Unknown trip counts make the share 0: such arrays
+ * 1/(NJ*NK) of an element per iteration. A tile loop `it` moves every array that moves with an
+ * element loop whose bounds it sets (`i` from `it` to `min(n, it + T) - 1`). Unknown trip counts make the share 0: such arrays
  * are lower-order terms of large nests.
  */
-function touchFraction(fp: ArrayFootprint, nestVars: string[], trips: Map<string, number | undefined>): number {
+function touchFraction(fp: ArrayFootprint, nestVars: string[], trips: Map<string, number | undefined>, carries: ReadonlyMap<string, ReadonlySet<string>>): number {
   if (fp.irregular && fp.variables.length === 0) return 1;
   let f = 1;
   for (const v of nestVars) {
     if (fp.variables.includes(v)) continue;
+    // A tile loop moves the array through the element loops whose bounds it sets.
+    if ([...(carries.get(v) ?? [])].some((u) => fp.variables.includes(u))) continue;
     const t = trips.get(v);
     if (t === undefined || t <= 0) return 0;
     f /= t;

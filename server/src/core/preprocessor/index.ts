@@ -76,9 +76,18 @@ const OFFLOAD_F = /^\s*!\$(acc\b|omp\s+(target|declare\s+target)\b)/i;
 /** The offload models whose directives the text holds (in any branch). */
 export function modelsInText(text: string): DirectiveModel[] {
   const out: DirectiveModel[] = [];
-  if (/^\s*(#\s*pragma\s+acc\b|!\$acc\b)/im.test(text)) out.push('openacc');
-  if (/^\s*(#\s*pragma\s+omp\b|!\$omp\b)/im.test(text)) out.push('openmp');
+  if (/^\s*(#\s*pragma\s+acc\b|!\$acc\b)/im.test(text) || PRAGMA_OPERATOR('acc').test(text)) out.push('openacc');
+  if (/^\s*(#\s*pragma\s+omp\b|!\$omp\b)/im.test(text) || PRAGMA_OPERATOR('omp').test(text) || /\bOMP_TARGET\s*\(/.test(text)) out.push('openmp');
   return out;
+}
+
+/**
+ * Directives written through the pragma operator, directly or through a wrapper macro:
+ * `_Pragma("omp target …")`, `PRAGMA(acc parallel loop)`, and the `OMP_TARGET(…)` style of
+ * wrapper whose expansion lives in a header (C11 §6.10.9; the model is then the one the file uses).
+ */
+function PRAGMA_OPERATOR(model: 'acc' | 'omp'): RegExp {
+  return new RegExp(`\\b(_Pragma|[A-Z_]*PRAGMA[A-Z_]*)\\s*\\(\\s*"?\\s*${model}\\b`);
 }
 
 export function preprocess(text: string, options: PreprocessOptions): Preprocessed {

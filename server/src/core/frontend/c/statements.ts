@@ -312,6 +312,16 @@ export class CStatementBuilder {
       else if (increasing && cond.op === '<=') { lower = init.start; upper = bound; }
       else if (!increasing && cond.op === '>') { upper = init.start; lower = S.add(bound, S.num(1)); }
       else if (!increasing && cond.op === '>=') { upper = init.start; lower = bound; }
+      if (lower && upper && cond.tiles) {
+        // A tile: of `min(n, it + T)` the side whose count does not move with the enclosing
+        // loops (T) is the count of every full tile; the edge tile runs fewer, so it is a bound.
+        const inner = new Set(this.loopVars);
+        const sides = cond.tiles.map((b) => (cond.op === '<' ? S.sub(b, S.num(1)) : b));
+        const k = sides.findIndex((u) => !S.freeSymbols(S.tripCount(lower!, u, stepInfo.step)).some((v) => inner.has(v)));
+        if (k >= 0) upper = sides[k];
+        else lower = upper = undefined;
+        if (upper) loop.tripCountIsBound = true;
+      }
       if (lower && upper) {
         loop.lower = lower;
         loop.upper = upper;
@@ -420,7 +430,29 @@ function conjuncts(node: Node | undefined): Node[] {
 
 const mirror: Record<string, string> = { '<': '>', '<=': '>=', '>': '<', '>=': '<=', '!=': '!=' };
 
-function readCondition(node: Node | undefined, variable: string | undefined, exprs: CExpressionBuilder): { op: string; bound: S.Expr } | undefined {
+/**
+ * The two sides of a `min` a tiled loop is bounded by: `MIN(n, it + T)` (a macro's conditional
+ * `a < b ? a : b`), `min(…)`, `std::min(…)`, `fmin(…)`. Undefined for anything else.
+ */
+function minOperands(v: VExpr): [S.Expr, S.Expr] | undefined {
+  if (v.kind === 'call' && /^(std::|::)?(min|fmin|MIN)$/.test(v.name) && v.args.length === 2) {
+    const a = toSymbolic(v.args[0]);
+    const b = toSymbolic(v.args[1]);
+    return a && b ? [a, b] : undefined;
+  }
+  if (v.kind === 'cond' && v.test.kind === 'bin' && (v.test.op === '<' || v.test.op === '<=' || v.test.op === '>' || v.test.op === '>=')) {
+    const [l, r] = [toSymbolic(v.test.left), toSymbolic(v.test.right)];
+    const [t, e] = [toSymbolic(v.then), toSymbolic(v.else)];
+    if (!l || !r || !t || !e) return undefined;
+    const same = (x: S.Expr, y: S.Expr): boolean => S.toString(S.sub(x, y)) === '0';
+    // a < b ? a : b and a > b ? b : a are min(a, b).
+    const less = v.test.op === '<' || v.test.op === '<=';
+    if (less ? same(t, l) && same(e, r) : same(t, r) && same(e, l)) return [l, r];
+  }
+  return undefined;
+}
+
+function readCondition(node: Node | undefined, variable: string | undefined, exprs: CExpressionBuilder): { op: string; bound: S.Expr; tiles?: [S.Expr, S.Expr] } | undefined {
   if (!node || !variable) return undefined;
   const n = unparen(node);
   if (n.type !== 'binary_expression') return undefined;
@@ -432,8 +464,12 @@ function readCondition(node: Node | undefined, variable: string | undefined, exp
   const lv = unparen(left);
   const rv = unparen(right);
   if (lv.type === 'identifier' && lv.text === variable) {
-    const bound = toSymbolic(exprs.value(rv));
-    return bound ? { op, bound } : undefined;
+    const value = exprs.value(rv);
+    const bound = toSymbolic(value);
+    if (bound) return { op, bound };
+    // `i < MIN(n, it + T)`: the bound of a tile; the caller picks the side that gives a count.
+    const tiles = op === '<' || op === '<=' ? minOperands(value) : undefined;
+    return tiles ? { op, bound: tiles[0], tiles } : undefined;
   }
   if (rv.type === 'identifier' && rv.text === variable) {
     const bound = toSymbolic(exprs.value(lv));
