@@ -101,6 +101,26 @@ describe('cautions', () => {
     }
   });
 
+  it('a missing reduction says what happens: a race on a mapped scalar, a private copy for one in no clause (each model\'s own standard)', async () => {
+    const src = [
+      '#define N 1000',
+      'int main(void) {',
+      '  static double a[N]; double s = 0.0, m = 0.0;',
+      '  for (int i = 0; i < N; i++) a[i] = i;',
+      '#pragma omp target teams distribute parallel for map(to: a[0:N]) map(tofrom: s)',
+      '  for (int i = 0; i < N; i++) s += a[i];',
+      '#pragma acc parallel loop copyin(a[0:N])',
+      '  for (int i = 0; i < N; i++) m = m > a[i] ? m : a[i];',
+      '  return (int)(s + m);',
+      '}',
+    ].join('\n');
+    const a = await analyzeText(src, 'reductions.c');
+    const [mapped, unnamed] = a.findings.filter((f) => f.code === 'missing-reduction').map((f) => f.message);
+    expect(mapped).toMatch(/`s` is in the `map` clause, so every iteration updates the one shared copy at once: a data race/);
+    expect(mapped).not.toMatch(/firstprivate|its own copy/);
+    expect(unnamed).toMatch(/firstprivate \(OpenACC 3\.3 §2\.6\.2\), so each thread keeps the largest value in its own copy and the host never sees the maximum/);
+  });
+
   it('race messages quote the access as written (the index macro), not its expansion', async () => {
     const src = [
       '#define NX 64',

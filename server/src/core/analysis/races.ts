@@ -603,9 +603,18 @@ function reductions(model: ProgramModel, nest: LoopNest): Finding[] {
       });
       continue;
     }
+    const what = use.op === 'max' ? 'maximum' : use.op === 'min' ? 'minimum' : use.op === '*' ? 'product' : 'total';
+    const written = `\`${name} = ${use.op === 'max' || use.op === 'min' ? `${use.op}(${name}, …)` : `${name} ${use.op} …`}\``;
+    // A scalar named in a data clause or map is shared by the iterations (their updates race);
+    // one in none is firstprivate (each thread updates its own copy, which the host never sees).
+    const shared = directives.flatMap((x) => clausesNamed(x, 'copy', 'copyout', 'copyin', 'create', 'present', 'map', 'deviceptr')).find((c) => (c.vars ?? []).some((v) => v.name === name));
+    const cite = d.family === 'openacc' ? 'OpenACC 3.3 §2.6.2' : 'OpenMP 5.2 §5.8.1';
+    const fate = shared
+      ? `\`${name}\` is in the \`${shared.name}\` clause, so every iteration updates the one shared copy at once: a data race whose ${what} depends on timing`
+      : `a scalar in no data clause is firstprivate (${cite}), so each thread ${use.op === 'max' ? 'keeps the largest value in its own copy' : use.op === 'min' ? 'keeps the smallest value in its own copy' : use.op === '*' ? 'multiplies into its own copy' : 'sums into its own copy'} and the host never sees the ${what}`;
     out.push({
       code: 'missing-reduction', severity: 'error', range: use.range, array: name,
-      message: `This offloaded loop accumulates into \`${name}\` (\`${name} = ${use.op === 'max' || use.op === 'min' ? `${use.op}(${name}, …)` : `${name} ${use.op} …`}\`) without a reduction clause; \`${name}\` is firstprivate by default, so each thread ${use.op === 'max' ? 'keeps the largest value in its own copy' : use.op === 'min' ? 'keeps the smallest value in its own copy' : use.op === '*' ? 'multiplies into its own copy' : 'sums into its own copy'} and the host never sees the ${use.op === 'max' ? 'maximum' : use.op === 'min' ? 'minimum' : use.op === '*' ? 'product' : 'total'}. Add \`reduction(${use.op}:${name})\` to the loop directive.`,
+      message: `This offloaded loop accumulates into \`${name}\` (${written}) without a reduction clause; ${fate}. Add \`reduction(${use.op}:${name})\` to the loop directive.`,
       fixes: [reductionFix(loopDirective, use.op, name)],
     });
   }
