@@ -121,6 +121,20 @@ describe('cautions', () => {
     expect(unnamed).toMatch(/firstprivate \(OpenACC 3\.3 §2\.6\.2\), so each thread keeps the largest value in its own copy and the host never sees the maximum/);
   });
 
+  it('no finding offers a fix that leaves the text as it is (every example and fixture)', async () => {
+    const { readdirSync } = await import('node:fs');
+    const walk = (d: string): string[] => readdirSync(d, { withFileTypes: true }).flatMap((e) => (e.isDirectory() ? walk(join(d, e.name)) : /\.(c|cpp|f90|F90)$/.test(e.name) ? [join(d, e.name)] : []));
+    const { applyTextEdits } = await import('../server/src/core/data/edits');
+    const { readFileSync } = await import('node:fs');
+    const noOps: string[] = [];
+    for (const f of [...walk(join(ROOT, 'examples')), ...walk(join(ROOT, 'tests/fixtures'))]) {
+      const text = readFileSync(f, 'utf8');
+      const a = await analyzeText(text, f);
+      for (const x of a.findings) for (const fix of x.fixes ?? []) if (applyTextEdits(text, fix.edits) === text) noOps.push(`${f}: ${x.code}: ${fix.title}`);
+    }
+    expect(noOps).toEqual([]);
+  }, 300_000);
+
   it('race messages quote the access as written (the index macro), not its expansion', async () => {
     const src = [
       '#define NX 64',

@@ -24,7 +24,7 @@ import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/p
 import { nestEstimate } from './estimate/nest';
 import { type StepWork, isParallelNest, stepEstimate, stepWork } from './estimate/step';
 import type { Baseline, NestEstimate, StepEstimate } from './estimate/types';
-import type { DirectiveFamily, Finding, SourceLanguage } from './types';
+import type { DirectiveFamily, Finding, Range, SourceLanguage } from './types';
 import { portPlans, portable, type TimeLoopPlans } from './port/plans';
 import { type NotUnderstood, notUnderstood } from './analysis/understood';
 
@@ -331,8 +331,33 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
   } catch (err) {
     result.internalErrors.push(err instanceof Error ? `${err.message}\n${err.stack ?? ''}` : String(err));
   }
+  dropNoOpFixes(result.findings, input.text);
   result.findings.sort((a, b) => a.range.start.line - b.range.start.line || a.range.start.col - b.range.start.col);
   return result;
+}
+
+/**
+ * A fix that would leave the text as it is (`u[0:n]` replaced by `u[0:n]`) is no fix: it is
+ * dropped, whatever produced it. Lines are split once, and only when some fix replaces text.
+ */
+function dropNoOpFixes(findings: Finding[], text: string): void {
+  let lines: string[] | undefined;
+  const slice = (r: Range): string | undefined => {
+    lines ??= text.split('\n');
+    if (r.start.line === r.end.line) return lines[r.start.line]?.slice(r.start.col, r.end.col);
+    const parts = lines.slice(r.start.line, r.end.line + 1);
+    if (parts.length === 0) return undefined;
+    parts[parts.length - 1] = parts[parts.length - 1].slice(0, r.end.col);
+    parts[0] = parts[0].slice(r.start.col);
+    return parts.join('\n');
+  };
+  for (const f of findings) {
+    if (!f.fixes) continue;
+    const kept = f.fixes.filter((fix) => fix.edits.some((e) => e.newText !== (e.range.start.line === e.range.end.line && e.range.start.col === e.range.end.col ? '' : slice(e.range))));
+    if (kept.length === f.fixes.length) continue;
+    if (kept.length > 0) f.fixes = kept;
+    else delete f.fixes;
+  }
 }
 
 /**
