@@ -4,7 +4,7 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import Ajv2020 from 'ajv/dist/2020';
 import { analyzeSource, type FileAnalysis, type PreprocessSettings } from '../server/src/core/analyze';
-import { readHeader } from '../server/src/cli/files';
+import { readHeader } from '../server/src/host/files';
 import { languageOfPath } from '../server/src/core/language';
 import type { MachineProfile } from '../server/src/core/machine/profiles';
 import { loadGrammars, type Grammars } from '../server/src/grammars';

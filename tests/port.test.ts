@@ -20,7 +20,7 @@ import { findToolchain, formatVerify, verify } from '../server/src/cli/verify';
 import { applyTextEdits } from '../server/src/core/data/edits';
 import { analyzeSource, type FileAnalysis } from '../server/src/core/analyze';
 import { languageOfPath } from '../server/src/core/language';
-import { readHeader } from '../server/src/cli/files';
+import { readHeader } from '../server/src/host/files';
 import { buildRefactors } from '../server/src/lsp/view/refactors';
 import { buildView } from '../server/src/lsp/view/build';
 import { codeActionsFor } from '../server/src/lsp/features/codeActions';

@@ -14,8 +14,8 @@ import { join } from 'node:path';
 import type { HostProfile } from '../core/machine/profiles';
 import { DEFAULT_PROFILE, HOSTS, PRESETS } from '../core/machine/profiles';
 import type { CalibrateArgs } from './args';
-import { InputError } from './files';
-import { MACHINES_FILE } from './machines';
+import { InputError } from '../host/files';
+import { MACHINES_FILE } from '../host/machines';
 
 const PROBE = String.raw`
 #include <omp.h>

@@ -14,8 +14,8 @@ import { portPlans, portable } from '../core/port/plans';
 import { unifiedDiff } from '../core/translate';
 import { loadGrammars } from '../grammars';
 import type { PortArgs } from './args';
-import { InputError, readHeader, readSource } from './files';
-import { chooseProfile, readMachinesFile } from './machines';
+import { InputError, readHeader, readSource } from '../host/files';
+import { chooseProfile, readMachinesFile } from '../host/machines';
 import { factor, seconds, spread } from './text';
 import { boundWords } from '../core/estimate/terms';
 

@@ -8,8 +8,8 @@ import type { PreprocessSettings } from '../core/analyze';
 import { COMPILE_DATABASE, entrySettings } from '../core/project/compileDb';
 import type { CheckArgs, PlanArgs } from './args';
 import { UsageError } from './args';
-import { DatabaseFlags, databaseHere, lookupEntry, problemLines, projectSources, readDatabase, shown } from './compileDb';
-import { InputError, type SourceFile, collectSources, readSource } from './files';
+import { DatabaseFlags, databaseHere, lookupEntry, problemLines, projectSources, readDatabase, shown } from '../host/compileDb';
+import { InputError, type SourceFile, collectSources, readSource } from '../host/files';
 
 export interface ProjectFiles {
   files: SourceFile[];

@@ -24,7 +24,7 @@ import { formatBytes } from '../core/symbolic';
 import { translateDirectives } from '../core/translate';
 import { loadGrammars } from '../grammars';
 import type { VerifyArgs } from './args';
-import { InputError, readHeader, readSource, type SourceFile } from './files';
+import { InputError, readHeader, readSource, type SourceFile } from '../host/files';
 
 /** The runtime version the log reader was written against (see core/verify/mapLog.ts). */
 export const RUNTIME_READ = 'libomptarget of LLVM 14.0.6 (Debian 12)';

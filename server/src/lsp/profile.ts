@@ -4,8 +4,8 @@
  * A file that is missing or malformed gives a warning and the preset's own host.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { InputError } from '../cli/files';
-import { chooseProfile, readMachinesFile } from '../cli/machines';
+import { InputError } from '../host/files';
+import { chooseProfile, readMachinesFile } from '../host/machines';
 import { DEFAULT_PROFILE, type HostProfile, type MachineProfile, presetProfile } from '../core/machine/profiles';
 
 export interface ResolvedProfile {

@@ -4,7 +4,7 @@
  * (`--stdio`, `--node-ipc`, `--socket=N`), as `offload-ledger serve` and the extension start it.
  */
 import { fileURLToPath } from 'node:url';
-import { MACHINES_FILE } from '../cli/machines';
+import { MACHINES_FILE } from '../host/machines';
 import { neighbourSources } from './analysis/neighbours';
 import { databaseOf, preprocessFor, projectNeighbours } from './analysis/project';
 import { existsSync } from 'node:fs';

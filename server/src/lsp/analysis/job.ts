@@ -6,7 +6,7 @@ import { performance } from 'node:perf_hooks';
 import { analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions } from '../../core/analyze';
 import type { ProgramModel } from '../../core/model/program';
 import type { NeighbourSource } from './neighbours';
-import { readHeader } from '../../cli/files';
+import { readHeader } from '../../host/files';
 import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';

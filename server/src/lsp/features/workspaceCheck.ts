@@ -2,12 +2,12 @@
  * The workspace-wide check (`offloadLedger.server.checkWorkspace`): every C, C++ and Fortran
  * source under the workspace folders, analysed one by one with work-done progress and
  * cancellation, diagnostics published for each. Open documents are checked with their editor
- * text; files are found and read by the CLI's own rules (server/src/cli/files.ts).
+ * text; files are found and read by the CLI's own rules (server/src/host/files.ts).
  */
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { CancellationToken, Diagnostic, WorkDoneProgressReporter } from 'vscode-languageserver';
 import { DiagnosticSeverity } from 'vscode-languageserver-protocol';
-import { InputError, collectSources, readSource } from '../../cli/files';
+import { InputError, collectSources, readSource } from '../../host/files';
 import type { WorkspaceCheckResult } from '../protocol';
 
 export interface CheckHooks {

@@ -1,6 +1,7 @@
 /**
- * Finding and reading source files for the CLI: directories are searched recursively for C,
- * C++ and Fortran sources; binary and oversized files are refused with a one-line reason.
+ * Finding and reading source files for the CLI and the language server: directories are searched
+ * recursively for C, C++ and Fortran sources; binary and oversized files are refused with a
+ * one-line reason.
  */
 import { readdirSync, readFileSync, statSync } from 'node:fs';
 import { join } from 'node:path';
