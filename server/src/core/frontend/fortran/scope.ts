@@ -25,6 +25,8 @@ export class Scope {
   readonly constants = new Map<string, S.Expr>();
   /** Named constants of a floating type, for typing them in flop counts. */
   readonly floatConstants = new Map<string, ElementType>();
+  /** Namelist groups declared here (`namelist /grid/ nx, ny`): group → member names. */
+  readonly namelists = new Map<string, string[]>();
   private readonly uses: UseLink[] = [];
   /** Names this scope looked up, kept only for internal procedures (see `trackReferences`). */
   private referenced?: Set<string>;

@@ -51,6 +51,19 @@ function kindOfType(d: Declaration): number {
   return d.type.name.startsWith('complex') ? d.type.bytes / 2 : d.type.bytes;
 }
 
+/** `namelist /grid/ nx, ny /run/ steps`: each group's members, for reads of the group (inputDefaults.ts). */
+function readNamelist(scope: Scope, line: Line): void {
+  const t = line.toks;
+  let group: string | undefined;
+  for (let i = line.head + 1; i < t.length; i++) {
+    if (isOp(t[i], '/') && isId(t[i + 1]) && isOp(t[i + 2], '/')) {
+      group = t[i + 1].v;
+      if (!scope.namelists.has(group)) scope.namelists.set(group, []);
+      i += 2;
+    } else if (group && isId(t[i])) scope.namelists.get(group)!.push(t[i].v);
+  }
+}
+
 export class UnitReader {
   private readonly modules = new Map<string, Scope>();
   readonly units: UnitInfo[] = [];
@@ -155,6 +168,7 @@ export class UnitReader {
     else if (line.kind === 'common') readCommon(dc, line.head);
     else if (line.kind === 'implicit') readImplicit(dc, line.head);
     else if (line.kind === 'use') this.use(ctx.scope, line);
+    else if (line.kind === 'spec-other' && w === 'namelist') readNamelist(ctx.scope, line);
   }
 
   /** `use m`, `use m, only: a, b => c`, `use, intrinsic :: iso_fortran_env, only: real64`. */
