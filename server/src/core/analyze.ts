@@ -5,7 +5,8 @@
  */
 import type { Parser } from 'web-tree-sitter';
 import * as S from './symbolic';
-import type { LoopStmt, ProgramModel } from './model/program';
+import type { LoopStmt, Procedure, ProgramModel, Stmt } from './model/program';
+import { rangeWithin } from './ranges';
 import { walkStatements } from './model/values';
 import { buildCModel } from './frontend/c';
 import { emptyModel } from './model/empty';
@@ -24,7 +25,7 @@ import { DEFAULT_PROFILE, type MachineProfile, presetProfile } from './machine/p
 import { nestEstimate } from './estimate/nest';
 import { type StepWork, isParallelNest, stepEstimate, stepWork } from './estimate/step';
 import type { Baseline, NestEstimate, StepEstimate } from './estimate/types';
-import type { DirectiveFamily, Finding, Range, SourceLanguage } from './types';
+import type { Directive, DirectiveFamily, Finding, Range, SourceLanguage } from './types';
 import { portPlans, portable, type TimeLoopPlans } from './port/plans';
 import { type NotUnderstood, notUnderstood } from './analysis/understood';
 
@@ -96,13 +97,92 @@ export function buildModel(input: AnalyzeInput, deps: AnalyzeDeps, settings: Pre
       readInclude: deps.readInclude,
     });
     // Index locals are substituted here, so the models of other workspace files get it too.
-    if (input.language === 'fortran') return substituteIndexLocals(buildFortranModel(input.text, input.path, pp));
+    if (input.language === 'fortran') return oneOffloadModel(substituteIndexLocals(buildFortranModel(input.text, input.path, pp)), pp.models);
     const parser = deps.parserFor(input.language);
-    if (parser) return substituteIndexLocals(buildCModel(parser, pp, input.path, input.language));
+    if (parser) return oneOffloadModel(substituteIndexLocals(buildCModel(parser, pp, input.path, input.language)), pp.models);
   } catch {
     // The front ends are written not to throw; an empty model is what remains if one did.
   }
   return emptyModel(input.path, input.language);
+}
+
+/** An offload directive of a model: every OpenACC directive; OpenMP `target…` and `declare target`. */
+function isOffloadOf(d: Directive, family: DirectiveFamily): boolean {
+  if (d.family !== family) return false;
+  return family === 'openacc' || /^(target\b|(begin |end )?declare target\b|end target\b)/.test(d.construct);
+}
+
+/**
+ * One build compiles one offload model: with gcc -fopenacc the `omp target` lines are ignored,
+ * and with -fopenmp the `acc` lines are. A file that holds both outside any `#ifdef` is read in
+ * the model the preprocessor chose (its `--directives`, its compile flags, or OpenACC when the
+ * file has both), and the other model's offload directives are left out with one note saying
+ * how to read them instead. Host OpenMP (`parallel for`) stays: it runs beside OpenACC.
+ */
+const compiledModels = new WeakMap<ProgramModel, readonly DirectiveFamily[]>();
+
+function oneOffloadModel(model: ProgramModel, models: readonly DirectiveFamily[]): ProgramModel {
+  compiledModels.set(model, models);
+  if (models.length !== 1) return model;
+  const other: DirectiveFamily = models[0] === 'openacc' ? 'openmp' : 'openacc';
+  // Only where the two stand for each other: on the same statement (a loop under both an `acc`
+  // and an `omp target` directive) or as neighbouring standalone directives with no code between
+  // (`!$omp target update from(a)` next to `!$acc update host(a)`). gcc can compile both models
+  // at once, so directives of both models on different code all run, and stay.
+  const dropped: Directive[] = [];
+  const mixed = new Set<Procedure>();
+  const isChosen = (d: Directive): boolean => isOffloadOf(d, models[0]);
+  const isOther = (d: Directive): boolean => isOffloadOf(d, other);
+  const scan = (stmts: Stmt[], p: Procedure): void => {
+    for (let k = 0; k < stmts.length; k++) {
+      const s = stmts[k];
+      if (s.directives.some(isChosen) && s.directives.some(isOther)) {
+        dropped.push(...s.directives.filter(isOther));
+        mixed.add(p);
+      }
+      if (s.kind === 'directive') {
+        let e = k;
+        while (e + 1 < stmts.length && stmts[e + 1].kind === 'directive') e++;
+        const run = stmts.slice(k, e + 1).map((x) => (x as Extract<Stmt, { kind: 'directive' }>).directive);
+        if (run.some(isChosen) && run.some(isOther)) {
+          dropped.push(...run.filter(isOther));
+          mixed.add(p);
+        }
+        k = e;
+        continue;
+      }
+      if (s.kind === 'loop' || s.kind === 'block') scan(s.body, p);
+      else if (s.kind === 'if') {
+        scan(s.then, p);
+        scan(s.otherwise, p);
+      }
+    }
+  };
+  for (const p of model.procedures) scan(p.body, p);
+  if (dropped.length === 0) return model;
+  dropped.sort((a, b) => a.range.start.line - b.range.start.line);
+  const gone = new Set(dropped);
+  model.directives = model.directives.filter((d) => !gone.has(d));
+  const prune = (stmts: Stmt[]): Stmt[] => {
+    const kept = stmts.filter((s) => !(s.kind === 'directive' && gone.has(s.directive)));
+    for (const s of kept) {
+      if (s.directives.some((d) => gone.has(d))) s.directives = s.directives.filter((d) => !gone.has(d));
+      if (s.kind === 'loop' || s.kind === 'block') s.body = prune(s.body);
+      else if (s.kind === 'if') {
+        s.then = prune(s.then);
+        s.otherwise = prune(s.otherwise);
+      }
+    }
+    return kept;
+  };
+  for (const p of mixed) p.body = prune(p.body);
+  const name = (f: DirectiveFamily): string => (f === 'openacc' ? 'OpenACC' : 'OpenMP');
+  const flag = (f: DirectiveFamily): string => (f === 'openacc' ? '-fopenacc' : '-fopenmp');
+  model.findings.push({
+    code: 'inactive-offload-branch', severity: 'info', range: dropped[0].range,
+    message: `${mixed.size === 1 ? `\`${[...mixed][0].name}\` pairs` : `${mixed.size} procedures pair`} ${name(models[0])} and ${name(other)} offload directives on the same code outside any \`#ifdef\`, as alternatives for a build of one model or the other (${flag(models[0])} ignores the ${name(other)} ones), so the analysis reads the ${name(models[0])} directives and leaves out ${dropped.length} ${name(other)} one${dropped.length === 1 ? '' : 's'} (from line ${dropped[0].range.start.line + 1}). To read those instead: \`--directives ${other}\`, or ${flag(other)} in the compile flags.`,
+  });
+  return model;
 }
 
 /**
@@ -260,7 +340,8 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     // re-read file gets its index locals substituted like every model buildModel makes.
     if (options.workspace && options.workspace.length > 0) {
       const resolved = ownModelInWorkspace(built, options.workspace);
-      if (resolved !== built) result.model = substituteIndexLocals(resolved);
+      // The file re-read with the workspace's modules: the same one offload model as it was built in.
+      if (resolved !== built) result.model = oneOffloadModel(substituteIndexLocals(resolved), compiledModels.get(built) ?? []);
     }
     // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
     const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;

@@ -82,6 +82,17 @@ export function modelsInText(text: string): DirectiveModel[] {
 }
 
 /**
+ * The model of a file that holds both: the one with more offload directive lines (OpenMP counts
+ * only `target…`/`declare target`, since host OpenMP runs beside either), OpenACC on a tie or
+ * when the file has no OpenMP offload lines at all.
+ */
+function majorityModel(text: string): DirectiveModel {
+  const acc = (text.match(/^\s*(#\s*pragma\s+acc\b|!\$acc\b)/gim) ?? []).length;
+  const omp = (text.match(/^\s*(#\s*pragma\s+omp\s+(target|declare\s+target|begin\s+declare\s+target|end\s+declare\s+target)\b|!\$omp\s+(end\s+)?(target|declare\s+target)\b)/gim) ?? []).length;
+  return omp > acc ? 'openmp' : 'openacc';
+}
+
+/**
  * Directives written through the pragma operator, directly or through a wrapper macro:
  * `_Pragma("omp target …")`, `PRAGMA(acc parallel loop)`, and the `OMP_TARGET(…)` style of
  * wrapper whose expansion lives in a header (C11 §6.10.9; the model is then the one the file uses).
@@ -99,7 +110,7 @@ export function preprocess(text: string, options: PreprocessOptions): Preprocess
   if (options.language === 'cpp') predefine('__cplusplus', '201703L');
   else if (options.language === 'c') predefine('__STDC_VERSION__', '201710L');
   const present = modelsInText(text);
-  const choice = options.model ?? (present.includes('openacc') ? 'openacc' : present.includes('openmp') ? 'openmp' : 'none');
+  const choice = options.model ?? (present.includes('openacc') && present.includes('openmp') ? majorityModel(text) : present.includes('openacc') ? 'openacc' : present.includes('openmp') ? 'openmp' : 'none');
   const models: DirectiveModel[] = choice === 'both' ? ['openacc', 'openmp'] : choice === 'none' ? [] : [choice];
   if (models.includes('openacc')) predefine('_OPENACC', OPENACC_VERSION);
   if (models.includes('openmp')) predefine('_OPENMP', OPENMP_VERSION);
