@@ -45,11 +45,12 @@ export const MATH_FLOPS: Readonly<Record<string, number>> = {
 const GENERIC = new Set(['abs', 'min', 'max']);
 
 /**
- * The table's name for a call: lower case, without a `std::` (or global `::`) qualifier or
- * template arguments, so C++ `std::sqrt`, `std::max<double>` weigh as their C versions.
+ * The table's name for a call: lower case, without namespace qualifiers or template arguments,
+ * so C++ `std::sqrt`, `std::max<double>`, and a code's own wrappers such as `prk::abs` or
+ * `Kokkos::fabs` weigh as the C functions they are named after.
  */
 export function mathName(name: string): string {
-  return name.toLowerCase().replace(/<.*>$/, '').replace(/^(std)?::/, '');
+  return name.toLowerCase().replace(/<.*>$/, '').replace(/^(\w*::)+/, '');
 }
 
 export interface FlopCount {

@@ -120,7 +120,29 @@ export function preprocess(text: string, options: PreprocessOptions): Preprocess
   const run = new Run(options, macros);
   const lines = text.split('\n');
   const { active, blanked } = run.file(lines, options.path, 0, undefined);
+  if (options.language !== 'fortran') blankQualifierMacros(blanked, macros);
   return { text: blanked.join('\n'), active, macros, models, included: run.included, findings: run.findings };
+}
+
+/** What a macro spelled in capitals may stand for in a declaration and still be dropped for reading. */
+const QUALIFIER_BODY = /^(|restrict|__restrict|__restrict__|const|volatile|inline|__inline|__inline__|static inline|__forceinline|__device__|__host__|__host__ __device__)$/;
+
+/**
+ * `double * RESTRICT a`, `INLINE void f()`: a capitalised object-like macro that stands for a
+ * qualifier (or for nothing) makes the declaration unreadable to a parser that does not expand
+ * it, and the element type of `a` is then lost. Its uses in code lines are blanked (same
+ * columns), which is what the compiler reads apart from the qualifier itself.
+ */
+function blankQualifierMacros(lines: string[], macros: ReadonlyMap<string, MacroDef>): void {
+  const names = [...macros.values()].filter((m) => !m.params && /^[A-Z_][A-Z0-9_]*$/.test(m.name) && !m.name.startsWith('__') && QUALIFIER_BODY.test(m.body.trim())).map((m) => m.name);
+  if (names.length === 0) return;
+  const use = new RegExp(`\\b(${names.join('|')})\\b`, 'g');
+  for (let k = 0; k < lines.length; k++) {
+    const l = lines[k];
+    if (/^\s*#/.test(l) || !use.test(l)) continue;
+    use.lastIndex = 0;
+    lines[k] = l.replace(use, (m) => ' '.repeat(m.length));
+  }
 }
 
 class Run {
