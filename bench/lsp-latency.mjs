@@ -3,8 +3,13 @@
 //     the default 300 ms debounce included, since that is what a user waits for);
 //   - hover latency (loop keywords of the 5,000-line file, after its analysis);
 //   - resident memory of the server process (main thread + analysis worker) after opening every
-//     source of the demo workspace (examples/).
-// Usage: npm run build && node bench/lsp-latency.mjs [edits per size, default 5]
+//     source of the demo workspace (examples/);
+//   - steady typing on the 5,000-line file: 10 one-line edits 150 ms apart, each edit's latency
+//     until diagnostics of its version or a newer one arrive (median, max), and the last edit's
+//     latency, at the default debounce and at 0 (stale results are dropped, so an intermediate
+//     edit is answered by a newer version's diagnostics).
+// Usage: npm run build && node bench/lsp-latency.mjs [edits per size, default 5] [sizes, default 5000,20000]
+//        OFFLOAD_LEDGER_BENCH=typing node bench/lsp-latency.mjs   (the steady-typing part only)
 import { readFileSync, readdirSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { dirname, join } from 'node:path';
@@ -14,12 +19,15 @@ import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const edits = Number(process.argv[2] ?? 5);
+const sizes = (process.argv[3] ?? '5000,20000').split(',').map(Number);
+const only = process.env.OFFLOAD_LEDGER_BENCH ?? '';
 
 // The test suite's LSP client and source generator (TypeScript, bundled in memory).
 const external = ['vscode-jsonrpc', 'vscode-languageserver-protocol'];
 const { startTestClient } = await loadTs('tests/e2e/lspClient.ts', external);
 const { generateSource, linesWith } = await loadTs('tests/e2e/generate.ts', external);
-const server = join(root, 'server', 'dist', 'lsp.js');
+// OFFLOAD_LEDGER_BENCH_SERVER: another bundle (say, a copy of an older build) to compare against.
+const server = process.env.OFFLOAD_LEDGER_BENCH_SERVER ?? join(root, 'server', 'dist', 'lsp.js');
 
 const stats = (xs) => {
   const s = [...xs].sort((a, b) => a - b);
@@ -30,7 +38,7 @@ const ms = (x) => `${x.toFixed(0)} ms`;
 const rssMiB = (pid) => Number(/VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, 'utf8'))[1]) / 1024;
 
 const rows = [];
-for (const size of [5000, 20000]) {
+for (const size of only === 'typing' ? [] : sizes) {
   const c = await startTestClient({ serverPath: server });
   const lines = generateSource(size).split('\n');
   const path = `/tmp/offload-ledger-bench/gen${size}.c`;
@@ -68,6 +76,51 @@ for (const size of [5000, 20000]) {
   rows.push({ size, lines: lines.length, open, edit: stats(latencies), hover: hovers.length ? stats(hovers) : null, rss });
 }
 
+// Steady typing: edits 150 ms apart on the 5,000-line file, as a person types.
+const typing = [];
+for (const debounceMs of [undefined, 0]) {
+  const c = await startTestClient({ serverPath: server, settings: debounceMs === undefined ? {} : { debounceMs } });
+  const lines = generateSource(5000).split('\n');
+  const uri = c.open('/tmp/offload-ledger-bench/typing5000.c', lines.join('\n'));
+  await c.waitForDiagnostics(uri, (p) => p.version === 1, 600_000);
+  const targets = linesWith(lines.join('\n'), '+= 1.0f;');
+  const sent = new Map();
+  const answered = new Map();
+  const seen = c.published.length;
+  const N = 10;
+  const watch = setInterval(() => {
+    for (const p of c.published.slice(seen)) {
+      if (p.uri !== uri || p.version === undefined) continue;
+      for (const [v, t] of sent) if (!answered.has(v) && p.version >= v) answered.set(v, (p.at ??= performance.now()) - t);
+    }
+  }, 2);
+  for (let v = 2; v < 2 + N; v++) {
+    const line = targets[(v * 11) % targets.length];
+    const old = lines[line];
+    lines[line] = `      u[(ny / 2) * nx + ${v}] += 1.0f;`;
+    sent.set(v, performance.now());
+    void c.connection.sendNotification('textDocument/didChange', {
+      textDocument: { uri, version: v },
+      contentChanges: [{ range: { start: { line, character: 0 }, end: { line, character: old.length } }, text: lines[line] }],
+    });
+    if (v < 1 + N) await new Promise((r) => setTimeout(r, 150));
+  }
+  await c.waitForDiagnostics(uri, (p) => p.version === 1 + N, 600_000);
+  await new Promise((r) => setTimeout(r, 10));
+  clearInterval(watch);
+  const lat = [...sent.keys()].map((v) => answered.get(v));
+  const published = c.published.slice(seen).filter((p) => p.uri === uri).length;
+  const starts = c.notifications
+    .filter((n) => n.method === 'window/logMessage' && /analysis worker started/.test(n.params.message)).length;
+  await c.close();
+  typing.push({ debounce: debounceMs === undefined ? 'default' : String(debounceMs), edit: stats(lat), last: lat.at(-1), published, starts });
+}
+
+if (only === 'typing') {
+  report();
+  process.exit(0);
+}
+
 // The whole demo workspace open at once.
 const demo = [];
 const walk = (d) => {
@@ -86,7 +139,13 @@ const demoMs = performance.now() - t0;
 const demoRss = rssMiB(c.child.pid);
 await c.close();
 
-console.log(`Offload Ledger language server (bundled, stdio), node ${process.version}, ${edits} one-line edits per size, debounce 300 ms (default)`);
+report();
+function report() {
+  for (const t of typing) {
+    console.log(`steady typing, 5,000 lines, 10 edits 150 ms apart, debounce ${t.debounce}: edit→diagnostics median ${ms(t.edit.median)}, max ${ms(t.edit.max)}; last edit ${ms(t.last)}; ${t.published} publications; worker starts logged: ${t.starts}`);
+  }
+}
+console.log(`Offload Ledger language server (bundled, stdio), node ${process.version}, ${edits} one-line edits per size, default debounce`);
 for (const r of rows) {
   console.log(`${String(r.lines).padStart(6)} lines: open→diagnostics ${ms(r.open)}; edit→diagnostics median ${ms(r.edit.median)} (min ${ms(r.edit.min)}, max ${ms(r.edit.max)}); server RSS ${r.rss.toFixed(0)} MiB`);
   if (r.hover) console.log(`              hover (loop keyword): median ${r.hover.median.toFixed(1)} ms, p95 ${r.hover.p95.toFixed(1)} ms over 50 requests`);

@@ -5,14 +5,14 @@
  */
 import * as vscode from 'vscode';
 import type { LanguageClient } from 'vscode-languageclient/node';
-import { ClientCommands, StatusNotification } from '../../server/src/lsp/protocol';
+import { ClientCommands, ProjectStatusNotification, StatusNotification } from '../../server/src/lsp/protocol';
 import { checkWorkspace } from './commands/checkWorkspace';
 import { chooseProfile } from './commands/chooseProfile';
 import { measureMachine } from './commands/measureMachine';
 import { measureTransfers } from './commands/measureTransfers';
 import { PlanningView } from './commands/planningView';
 import { createClient } from './serverClient';
-import { ProfileStatus } from './statusBar';
+import { ProfileStatus, ProjectStatus } from './statusBar';
 
 let client: LanguageClient | undefined;
 
@@ -24,12 +24,19 @@ export interface OffloadLedgerApi {
 export async function activate(context: vscode.ExtensionContext): Promise<OffloadLedgerApi> {
   const output = vscode.window.createOutputChannel('Offload Ledger');
   const status = new ProfileStatus(vscode.workspace.getConfiguration('offloadLedger').get<string>('profile', ''));
+  const project = new ProjectStatus();
   const planning = new PlanningView(() => client);
-  context.subscriptions.push(output, status, planning);
+  context.subscriptions.push(output, status, project, planning);
 
   const start = async (): Promise<void> => {
-    const c = createClient(context, output, { onStopped: (reason) => status.stopped(reason) });
+    const c = createClient(context, output, {
+      onStopped: (reason) => {
+        status.stopped(reason);
+        project.hide();
+      },
+    });
     client = c;
+    c.onNotification(ProjectStatusNotification.type, (p) => project.show(p));
     c.onNotification(StatusNotification.type, (s) => {
       status.show(s);
       if (s.state === 'ready' && planning.visible) void planning.refresh();

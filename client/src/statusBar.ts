@@ -1,6 +1,10 @@
-/** The status bar item: the active machine profile and the server's state; a click chooses the profile. */
+/**
+ * The status bar items: the active machine profile and the server's state (a click chooses the
+ * profile), and the project index (indexing N of M files, then ready with the file count; a
+ * click checks the workspace).
+ */
 import * as vscode from 'vscode';
-import { ClientCommands, type StatusParams } from '../../server/src/lsp/protocol';
+import { ClientCommands, type ProjectStatusParams, type StatusParams } from '../../server/src/lsp/protocol';
 
 export class ProfileStatus implements vscode.Disposable {
   private readonly item = vscode.window.createStatusBarItem('offloadLedger.status', vscode.StatusBarAlignment.Right, 100);
@@ -31,6 +35,45 @@ export class ProfileStatus implements vscode.Disposable {
   running(): void {
     this.item.command = ClientCommands.chooseProfile;
     this.item.backgroundColor = undefined;
+  }
+
+  dispose(): void {
+    this.item.dispose();
+  }
+}
+
+/** What the project item says, as text and tooltip (plain data, so it can be checked without an editor). */
+export function projectStatusText(p: ProjectStatusParams): { text: string; tooltip: string } {
+  const what =
+    'Offload Ledger project index: the C, C++ and Fortran files of the project (sibling files, the sources of ' +
+    'compile_commands.json, the files of a workspace check) whose procedures and modules the analysis follows calls into.';
+  const files = (n: number): string => `${n} file${n === 1 ? '' : 's'}`;
+  if (p.state === 'indexing') {
+    const of = `${p.done ?? 0} of ${p.total ?? 0}`;
+    const doing = p.scope === 'workspace' ? `Checking the workspace: ${of} files done.` : `Reading the project's files: ${of} ready.`;
+    return { text: `$(sync~spin) Indexing ${of} files`, tooltip: `${what}\n\n${doing}` };
+  }
+  return { text: `$(database) ${files(p.files)}`, tooltip: `${what}\n\nReady: ${files(p.files)} indexed. Click to check the whole workspace.` };
+}
+
+export class ProjectStatus implements vscode.Disposable {
+  private readonly item = vscode.window.createStatusBarItem('offloadLedger.project', vscode.StatusBarAlignment.Right, 99);
+
+  constructor() {
+    this.item.name = 'Offload Ledger Project';
+    this.item.command = ClientCommands.checkWorkspace;
+  }
+
+  show(p: ProjectStatusParams): void {
+    const { text, tooltip } = projectStatusText(p);
+    this.item.text = text;
+    this.item.tooltip = tooltip;
+    this.item.show();
+  }
+
+  /** The server stopped: what the item said no longer holds. */
+  hide(): void {
+    this.item.hide();
   }
 
   dispose(): void {

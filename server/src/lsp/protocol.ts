@@ -55,6 +55,65 @@ export namespace StatusNotification {
   export const type = new NotificationType<StatusParams>(method);
 }
 
+/**
+ * The state of the project index: the other files of the project (siblings, the compilation
+ * database's sources, the workspace check's files) whose procedures and modules the analysis
+ * follows calls into. "indexing" while their models are built for a document (only when some
+ * are not cached yet) or while a workspace check runs; "ready" after, with the number of files
+ * the server knows.
+ */
+export interface ProjectStatusParams {
+  state: 'indexing' | 'ready';
+  /** While indexing: files ready, of `total`. */
+  done?: number;
+  total?: number;
+  /** Files of the project the server has read so far (documents and the files they read, the check's files). */
+  files: number;
+  /** While indexing: "workspace" for the workspace check, else the URI of the document being analysed. */
+  scope?: string;
+}
+
+/** server → client: "indexing N of M files" while the project index is built, then "ready" with the file count. */
+export namespace ProjectStatusNotification {
+  export const method = 'offloadLedger/projectStatus';
+  export const type = new NotificationType<ProjectStatusParams>(method);
+}
+
+/** Counters of the analysis engine (server/src/lsp/analysis/engine.ts). */
+export interface EngineCounters {
+  kind: 'worker' | 'in-process';
+  /** Analysis threads started: 1 for a worker that stayed warm; more only after a crash or a timeout. */
+  workerStarts: number;
+  /** Thread id of the current worker (0 in process, -1 when none runs). */
+  workerThreadId: number;
+  jobsStarted: number;
+  jobsCompleted: number;
+  /** Running jobs marked stale by a newer edit of the same document (their results were dropped). */
+  jobsCancelled: number;
+  /** Workers replaced because a stale job did not stop in time. */
+  timeouts: number;
+  /** Models of other project files built, and found unchanged in the cache, by the analysis thread. */
+  modelsBuilt: number;
+  modelHits: number;
+}
+
+export interface DebugStats {
+  engine: EngineCounters;
+  /** Analyses answered from a document's last analysis (same text and settings), without the engine. */
+  viewCacheHits: number;
+  /** Files of workspace checks answered from their last analysis. */
+  checkCacheHits: number;
+}
+
+/**
+ * client → server: the server's counters, for tests, benchmarks and bug reports (no parameters).
+ * The server also logs "analysis worker started (#n, thread t)" whenever a worker thread starts.
+ */
+export namespace DebugStatsRequest {
+  export const method = 'offloadLedger/debugStats';
+  export const type = new RequestType<void, DebugStats, void>(method);
+}
+
 export interface PlanningParams {
   /** One document, or every analysed document when absent. */
   uri?: string;

@@ -24,9 +24,10 @@ import {
 import { TextDocument } from 'vscode-languageserver-textdocument';
 import { TOOL_VERSION } from '../core/report';
 import type { Settings } from '../settings/validate';
-import type { AnalysisEngine } from './analysis/engine';
+import type { AnalysisEngine, EngineEvents } from './analysis/engine';
 import { InProcessEngine } from './analysis/inProcess';
 import type { AnalysisJob } from './analysis/job';
+import { ViewCache } from './analysis/reuse';
 import { Scheduler } from './analysis/scheduler';
 import { WorkerEngine } from './analysis/workerEngine';
 import { ConfigStore } from './config';
@@ -36,7 +37,9 @@ import { hoverAt } from './features/hover';
 import { checkWorkspace } from './features/workspaceCheck';
 import { languageOfDocument, pathOfUri } from './languages';
 import { resolveProfile } from './profile';
-import { type PlanningData, PlanningDataRequest, ServerCommands, StatusNotification, type StatusParams } from './protocol';
+import {
+  DebugStatsRequest, type PlanningData, PlanningDataRequest, ProjectStatusNotification, type ProjectStatusParams, ServerCommands, StatusNotification, type StatusParams,
+} from './protocol';
 
 export interface ServerOptions {
   /** Analysis engine; by default a worker thread when the bundled worker script is present. */
@@ -47,9 +50,9 @@ export interface ServerOptions {
 
 declare const __dirname: string;
 
-function defaultEngine(onCrash: (reason: string) => void): AnalysisEngine {
+function defaultEngine(events: EngineEvents): AnalysisEngine {
   const script = typeof __dirname === 'string' ? join(__dirname, 'lsp-worker.js') : '';
-  return script && existsSync(script) ? new WorkerEngine(script, { onCrash }) : new InProcessEngine();
+  return script && existsSync(script) ? new WorkerEngine(script, events) : new InProcessEngine(events);
 }
 
 let guardsInstalled = false;
@@ -68,7 +71,29 @@ export function startServer(connection: Connection = createConnection(ProposedFe
   const docsHref = codesHref(options.baseDir ?? (typeof __dirname === 'string' ? __dirname : process.cwd()));
   const log = (m: string): void => connection.console.error(`Offload Ledger: ${m}`);
   installGuards(log);
-  const engine = options.engine ?? defaultEngine((reason) => log(`the analysis worker stopped (${reason}); a new one takes the next job`));
+  // The project index's state for the status item: files known, and who is indexing.
+  const known = new Set<string>();
+  let checking = false;
+  let lastProject: ProjectStatusParams | undefined;
+  const projectStatus = (p: ProjectStatusParams): void => {
+    if (lastProject && JSON.stringify(lastProject) === JSON.stringify(p)) return;
+    lastProject = p;
+    void connection.sendNotification(ProjectStatusNotification.type, p).catch(() => undefined);
+  };
+  const projectReady = (): void => {
+    if (checking) return;
+    if (lastProject?.state === 'ready' && lastProject.files === known.size) return;
+    projectStatus({ state: 'ready', files: known.size });
+  };
+  const engine = options.engine ?? defaultEngine({
+    onCrash: (reason) => log(`the analysis worker stopped (${reason}); a new one takes the next job`),
+    onStart: (n, threadId) => log(`analysis worker started (#${n}, thread ${threadId})`),
+    onIndex: (uri, done, total) => {
+      if (!checking) projectStatus({ state: 'indexing', done, total, files: known.size, scope: uri });
+    },
+  });
+  /** The last analysis of each file of a workspace check that is not open (same inputs: not analysed again). */
+  const checkCache = new ViewCache(4096);
   let workspaceFolders: string[] = [];
   let foldersChange = false;
   let rootUri: string | undefined;
@@ -100,10 +125,13 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     const folder = folderOf(path);
     const user = preprocessOf(settings.preprocessorFlags, folder)!;
     const db = uri.startsWith('file:') ? databaseOf(path, settings.compileCommands, folder, (m) => config.warn(m)) : undefined;
+    const neighbours = uri.startsWith('file:') ? projectNeighbours(db, path, language, folder, neighbourSources(path, language, openText), user, openText) : undefined;
+    known.add(path);
+    for (const n of neighbours ?? []) known.add(n.path);
     return {
       uri, version, text, language,
       path,
-      neighbours: uri.startsWith('file:') ? projectNeighbours(db, path, language, folder, neighbourSources(path, language, openText), user, openText) : undefined,
+      neighbours,
       bindings: Object.entries(settings.sizeBindings),
       preprocess: preprocessFor(db, path, user),
       profile: resolved.profile,
@@ -129,12 +157,16 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     onView: (view) => {
       for (const e of view.internalErrors) log(`internal error while analysing ${view.planning.path}: ${e}`);
       void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });
+      projectReady();
     },
     onError: (uri, e) => {
       log(`analysis of ${uri} failed: ${e instanceof Error ? e.message.split('\n')[0] : String(e)}`);
       status({ state: 'error', message: `the analysis of ${pathOfUri(uri)} failed; see the output channel` });
     },
-    onBusyChange: (busy) => status({ state: busy ? 'analysing' : 'ready' }),
+    onBusyChange: (busy) => {
+      status({ state: busy ? 'analysing' : 'ready' });
+      if (!busy) projectReady();
+    },
   });
 
   connection.onInitialize((params: InitializeParams): InitializeResult => {
@@ -227,6 +259,8 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     };
   });
 
+  connection.onRequest(DebugStatsRequest.type, () => ({ engine: engine.stats(), viewCacheHits: scheduler.cache.hits, checkCacheHits: checkCache.hits }));
+
   connection.onExecuteCommand(async (p, token, reporter) => {
     if (p.command !== ServerCommands.checkWorkspace) return undefined;
     // The client's own token when it sent one (vscode-languageserver then passes a reporter bound
@@ -234,29 +268,44 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     const clientToken = (reporter as unknown as { _token?: unknown })._token !== undefined;
     const progress = !clientToken && caps.workDoneProgress ? await connection.window.createWorkDoneProgress() : reporter;
     const folders = workspaceFolders.length > 0 ? workspaceFolders : rootUri ? [rootUri] : [];
-    return checkWorkspace(
-      folders,
-      {
-        openText: (uri) => {
-          const d = documents.get(uri);
-          return d ? { text: d.getText(), version: d.version } : undefined;
+    checking = true;
+    try {
+      return await checkWorkspace(
+        folders,
+        {
+          openText: (uri) => {
+            const d = documents.get(uri);
+            return d ? { text: d.getText(), version: d.version } : undefined;
+          },
+          analyse: async (uri, path, text, version) => {
+            if (documents.get(uri)) {
+              const v = await scheduler.viewFor(uri);
+              if (!v) throw new Error('analysis failed');
+              return v.diagnostics;
+            }
+            const job = await jobFor(uri, text, version, undefined);
+            if (!job) return [];
+            job.path = path;
+            const cached = checkCache.lookup(job);
+            if (cached) return cached.diagnostics;
+            const view = await engine.analyze(job);
+            // Diagnostics are all a check reads: the rest of the view is not kept.
+            checkCache.store(job, { ...view, hovers: {}, cards: [], lenses: [], inlayHints: [], actions: [], refactors: [] });
+            return view.diagnostics;
+          },
+          publish: (uri, diagnostics) => void connection.sendDiagnostics({ uri, diagnostics }),
+          onProgress: (done, total, files) => {
+            for (const f of files) known.add(f);
+            projectStatus({ state: 'indexing', done, total, files: known.size, scope: 'workspace' });
+          },
         },
-        analyse: async (uri, path, text, version) => {
-          if (documents.get(uri)) {
-            const v = await scheduler.viewFor(uri);
-            if (!v) throw new Error('analysis failed');
-            return v.diagnostics;
-          }
-          const job = await jobFor(uri, text, version, undefined);
-          if (!job) return [];
-          job.path = path;
-          return (await engine.analyze(job)).diagnostics;
-        },
-        publish: (uri, diagnostics) => void connection.sendDiagnostics({ uri, diagnostics }),
-      },
-      progress,
-      token,
-    );
+        progress,
+        token,
+      );
+    } finally {
+      checking = false;
+      projectStatus({ state: 'ready', files: known.size });
+    }
   });
 
   connection.onShutdown(async () => {

@@ -11,7 +11,7 @@ import { forEachCallInValue, valuesOfStatement, walkStatements } from '../../cor
 import { linkAcrossFiles } from '../../core/project/crossFile';
 import { type AnalysisJob, analyzeOptions } from './job';
 
-export function linkCallers(job: AnalysisJob, analysis: FileAnalysis, workspace: ProgramModel[] | undefined, deps: AnalyzeDeps): void {
+export function linkCallers(job: AnalysisJob, analysis: FileAnalysis, workspace: ProgramModel[] | undefined, deps: AnalyzeDeps, check: () => void = () => undefined): void {
   const neighbours = job.neighbours ?? [];
   const textOf = (p: string): string | undefined => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text);
   const callers: FileAnalysis[] = [];
@@ -20,6 +20,8 @@ export function linkCallers(job: AnalysisJob, analysis: FileAnalysis, workspace:
     workspace.forEach((m, k) => {
       if (names.size === 0 || !callsAny(m, names)) return;
       const n = neighbours[k];
+      // Between callers: a stale job stops here (the caller throws to end it).
+      check();
       const others = [analysis.model, ...workspace.filter((_, j) => j !== k)];
       // Findings only: the what-if re-analysis (estimates with the suggested region) is not needed.
       callers.push(analyzeSource({ path: n.path, language: n.language, text: n.text, model: m }, deps, {

@@ -1,4 +1,5 @@
 /** The interface the server uses to analyse documents, in a worker thread or in its own thread. */
+import type { EngineCounters } from '../protocol';
 import type { DocumentView } from '../view/types';
 import type { AnalysisJob } from './job';
 
@@ -9,12 +10,26 @@ export class Superseded extends Error {
   }
 }
 
+/** What an engine has done since it started (the `offloadLedger/debugStats` request reports it). */
+export type EngineStats = EngineCounters;
+
+export interface EngineEvents {
+  /** The worker died on its own (not terminated by a shutdown). */
+  onCrash?: (reason: string) => void;
+  /** A new analysis thread started (the first, or a replacement after a crash or a timeout). */
+  onStart?: (n: number, threadId: number) => void;
+  /** Models of the document's project files are being built: `done` of `total` files ready. */
+  onIndex?: (uri: string, done: number, total: number) => void;
+}
+
 export interface AnalysisEngine {
   /**
-   * Analyses the job. A pending or running job for the same URI is superseded (its promise
-   * rejects with Superseded) so that only the newest text of a document is worked on.
+   * Analyses the job. A pending job for the same URI is superseded (its promise rejects with
+   * Superseded); a running one is marked stale, rejects with Superseded at once, and the thread
+   * drops its work at the next check (between files and phases) — the thread and its caches stay.
    */
   analyze(job: AnalysisJob): Promise<DocumentView>;
+  stats(): EngineStats;
   dispose(): Promise<void>;
   readonly kind: 'worker' | 'in-process';
 }

@@ -5,8 +5,8 @@
  */
 import { loadGrammars, type Grammars } from '../../grammars';
 import type { DocumentView } from '../view/types';
-import { type AnalysisEngine, Superseded } from './engine';
-import { type AnalysisJob, runJob } from './job';
+import { type AnalysisEngine, type EngineEvents, type EngineStats, Superseded } from './engine';
+import { type AnalysisJob, modelCacheStats, runJob } from './job';
 
 interface Pending {
   job: AnalysisJob;
@@ -19,6 +19,15 @@ export class InProcessEngine implements AnalysisEngine {
   private queue: Pending[] = [];
   private running = false;
   private grammars: Promise<Grammars> | undefined;
+  private readonly counters: EngineStats = {
+    kind: 'in-process', workerStarts: 0, workerThreadId: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
+  };
+
+  constructor(private readonly events: EngineEvents = {}) {}
+
+  stats(): EngineStats {
+    return { ...this.counters, modelsBuilt: modelCacheStats.built, modelHits: modelCacheStats.hits };
+  }
 
   analyze(job: AnalysisJob): Promise<DocumentView> {
     for (const p of this.queue.filter((q) => q.job.uri === job.uri)) p.reject(new Superseded(p.job.uri, p.job.version));
@@ -38,8 +47,11 @@ export class InProcessEngine implements AnalysisEngine {
       for (let next = this.queue.shift(); next; next = this.queue.shift()) {
         // Yield between jobs so requests and newer edits are read before the next one starts.
         await new Promise((r) => setImmediate(r));
+        const job = next.job;
         try {
-          next.resolve(runJob(next.job, deps));
+          this.counters.jobsStarted++;
+          next.resolve(runJob(job, deps, { progress: (done, total) => this.events.onIndex?.(job.uri, done, total) }));
+          this.counters.jobsCompleted++;
         } catch (e) {
           next.reject(e);
         }

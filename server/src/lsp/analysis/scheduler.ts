@@ -1,11 +1,14 @@
 /**
  * Keeps each open document's newest view: debounces edits, sends the newest text to the engine,
  * drops results that an edit has made stale, and lets requests wait for the view of the text
- * the editor shows. Publishing is left to the caller (`onView`).
+ * the editor shows. A job whose inputs equal those of the document's last analysis (the same
+ * text re-sent, a settings change that changes nothing) is answered from that analysis without
+ * the engine (reuse.ts). Publishing is left to the caller (`onView`).
  */
 import type { DocumentView } from '../view/types';
 import { type AnalysisEngine, Superseded } from './engine';
 import type { AnalysisJob } from './job';
+import { ViewCache } from './reuse';
 
 export interface SchedulerHooks {
   /** The job for the document's current text, or undefined when it is closed or not a source. */
@@ -27,6 +30,8 @@ export class Scheduler {
   private readonly waiters = new Map<string, Waiter[]>();
   private inFlight = 0;
   private readonly running = new Map<string, number>();
+  /** The last analysis of each open document, keyed by its inputs. */
+  readonly cache = new ViewCache();
 
   constructor(
     private readonly engine: AnalysisEngine,
@@ -49,6 +54,7 @@ export class Scheduler {
     clearTimeout(this.timers.get(uri));
     this.timers.delete(uri);
     this.views.delete(uri);
+    this.cache.delete(uri);
     for (const w of this.waiters.get(uri) ?? []) w.resolve(undefined);
     this.waiters.delete(uri);
   }
@@ -89,11 +95,20 @@ export class Scheduler {
       this.settle(uri, undefined);
       return;
     }
+    const reused = this.cache.lookup(job);
+    if (reused) {
+      if (reused.version !== this.hooks.currentVersion(uri)) return;
+      this.views.set(uri, reused);
+      this.hooks.onView(reused);
+      this.settle(uri, reused);
+      return;
+    }
     this.busy(+1);
     this.running.set(uri, (this.running.get(uri) ?? 0) + 1);
     try {
       const view = await this.engine.analyze(job);
       // An edit that arrived during the analysis has scheduled a newer one: drop this result.
+      this.cache.store(job, view);
       if (view.version !== this.hooks.currentVersion(uri)) return;
       this.views.set(uri, view);
       this.hooks.onView(view);

@@ -1,14 +1,18 @@
 /**
  * Analysis in one worker thread, so a long analysis (seconds on a 20,000-line file) never blocks
- * hovers or the reading of newer edits. A newer version of the document being analysed
- * terminates the worker — the only way to stop a synchronous analysis — and a fresh one starts.
- * A worker that dies on its own fails the job it held and is replaced for the next one.
+ * hovers or the reading of newer edits. The thread stays warm for the life of the server (its
+ * grammars, parsers and the models of unchanged files are reused): a newer version of the
+ * document being analysed marks the running job stale through a shared flag, the job's promise
+ * rejects with Superseded at once, and the worker drops the job at its next check (between files
+ * and phases) and takes the newest. Only a stale job that does not stop within `staleTimeoutMs`
+ * (one analysis step longer than that) ends the thread; a worker that dies on its own fails the
+ * job it held and is replaced for the next one.
  */
 import { Worker } from 'node:worker_threads';
 import type { DocumentView } from '../view/types';
-import { type AnalysisEngine, Superseded } from './engine';
+import { type AnalysisEngine, type EngineEvents, type EngineStats, Superseded } from './engine';
 import type { AnalysisJob } from './job';
-import type { WorkerReply } from './workerMain';
+import type { WorkerData, WorkerReply } from './workerMain';
 
 interface Pending {
   id: number;
@@ -17,24 +21,36 @@ interface Pending {
   reject: (e: unknown) => void;
 }
 
-export interface WorkerEngineEvents {
-  /** The worker died on its own (not terminated for a newer edit). */
-  onCrash?: (reason: string) => void;
+interface Running {
+  id: number;
+  job: AnalysisJob;
+  /** Undefined once the job is stale: its caller has been told, the worker is still finishing it. */
+  pending: Pending | undefined;
+  watchdog?: NodeJS.Timeout;
+}
+
+export interface WorkerEngineOptions extends EngineEvents {
+  /** How long a stale job may keep the worker before the worker is replaced (default 60 s). */
+  staleTimeoutMs?: number;
 }
 
 export class WorkerEngine implements AnalysisEngine {
   readonly kind = 'worker' as const;
   private worker: Worker | undefined;
-  private running: Pending | undefined;
+  private running: Running | undefined;
   private queue: Pending[] = [];
   private nextId = 1;
   private disposed = false;
-  /** Workers terminated on purpose: their exit is not a crash. */
+  private readonly cancel = new Int32Array(new SharedArrayBuffer(4));
+  private readonly counters: EngineStats = {
+    kind: 'worker', workerStarts: 0, workerThreadId: -1, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
+  };
+  /** Workers terminated on purpose (shutdown, timeout): their exit is not a crash. */
   private readonly terminating = new WeakSet<Worker>();
 
   constructor(
     private readonly script: string,
-    private readonly events: WorkerEngineEvents = {},
+    private readonly events: WorkerEngineOptions = {},
   ) {}
 
   analyze(job: AnalysisJob): Promise<DocumentView> {
@@ -42,34 +58,74 @@ export class WorkerEngine implements AnalysisEngine {
     for (const p of this.queue.filter((q) => q.job.uri === job.uri)) p.reject(new Superseded(p.job.uri, p.job.version));
     this.queue = this.queue.filter((q) => q.job.uri !== job.uri);
     const promise = new Promise<DocumentView>((resolve, reject) => this.queue.push({ id: this.nextId++, job, resolve, reject }));
-    if (this.running && this.running.job.uri === job.uri) {
-      const old = this.running;
-      this.running = undefined;
-      this.stopWorker();
-      old.reject(new Superseded(old.job.uri, old.job.version));
-    }
+    const r = this.running;
+    if (r && r.pending && r.job.uri === job.uri) this.markStale(r);
     this.pump();
     return promise;
+  }
+
+  /** Tells the caller of a running job that it is superseded and asks the worker to drop it. */
+  private markStale(r: Running): void {
+    const p = r.pending!;
+    r.pending = undefined;
+    this.counters.jobsCancelled++;
+    Atomics.store(this.cancel, 0, Math.max(Atomics.load(this.cancel, 0), r.id));
+    p.reject(new Superseded(p.job.uri, p.job.version));
+    const timeout = this.events.staleTimeoutMs ?? 60_000;
+    r.watchdog = setTimeout(() => {
+      if (this.running !== r) return;
+      // The job has not reached a check in time: a fresh worker takes the queue.
+      this.counters.timeouts++;
+      this.running = undefined;
+      this.stopWorker();
+      this.pump();
+    }, timeout);
+    r.watchdog.unref?.();
+  }
+
+  stats(): EngineStats {
+    return { ...this.counters, workerThreadId: this.worker ? this.counters.workerThreadId : -1 };
   }
 
   private pump(): void {
     if (this.running || this.disposed) return;
     const next = this.queue.shift();
     if (!next) return;
-    this.running = next;
+    this.running = { id: next.id, job: next.job, pending: next };
+    this.counters.jobsStarted++;
     this.ensureWorker().postMessage({ id: next.id, job: next.job });
+  }
+
+  private finish(r: Running): void {
+    clearTimeout(r.watchdog);
+    if (this.running === r) this.running = undefined;
   }
 
   private ensureWorker(): Worker {
     if (this.worker) return this.worker;
-    const w = new Worker(this.script);
+    const w = new Worker(this.script, { workerData: { cancel: this.cancel } satisfies WorkerData });
     w.unref();
+    this.counters.workerStarts++;
+    this.counters.workerThreadId = w.threadId;
+    this.events.onStart?.(this.counters.workerStarts, w.threadId);
     w.on('message', (reply: WorkerReply) => {
-      const p = this.running;
-      if (!p || p.id !== reply.id) return;
-      this.running = undefined;
-      if (reply.ok) p.resolve(reply.view);
-      else p.reject(new Error(reply.error));
+      const r = this.running;
+      if (!r || r.id !== reply.id || this.worker !== w) return;
+      if (reply.kind === 'progress') {
+        if (r.pending) this.events.onIndex?.(r.job.uri, reply.done, reply.total);
+        return;
+      }
+      this.counters.modelsBuilt = reply.counters.modelsBuilt;
+      this.counters.modelHits = reply.counters.modelHits;
+      this.finish(r);
+      const p = r.pending;
+      if (p) {
+        if (reply.kind === 'done') {
+          this.counters.jobsCompleted++;
+          p.resolve(reply.view);
+        } else if (reply.kind === 'failed') p.reject(new Error(reply.error));
+        else p.reject(new Superseded(p.job.uri, p.job.version));
+      }
       this.pump();
     });
     let dead = false;
@@ -80,9 +136,9 @@ export class WorkerEngine implements AnalysisEngine {
       if (this.worker === w) this.worker = undefined;
       if (this.terminating.has(w)) return;
       this.events.onCrash?.(reason);
-      const p = this.running;
-      this.running = undefined;
-      p?.reject(new Error(`the analysis worker stopped: ${reason}`));
+      const r = this.running;
+      if (r) this.finish(r);
+      r?.pending?.reject(new Error(`the analysis worker stopped: ${reason}`));
       this.pump();
     };
     w.on('error', (e) => died(e instanceof Error ? e.message : String(e)));
@@ -101,8 +157,9 @@ export class WorkerEngine implements AnalysisEngine {
 
   async dispose(): Promise<void> {
     this.disposed = true;
-    const all = [...this.queue.splice(0), ...(this.running ? [this.running] : [])];
-    this.running = undefined;
+    const r = this.running;
+    if (r) this.finish(r);
+    const all = [...this.queue.splice(0), ...(r?.pending ? [r.pending] : [])];
     for (const p of all) p.reject(new Error('analysis engine disposed'));
     const w = this.worker;
     this.worker = undefined;

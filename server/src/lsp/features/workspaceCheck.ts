@@ -16,6 +16,8 @@ export interface CheckHooks {
   /** Analyses one file and returns its diagnostics (throws on failure). */
   analyse(uri: string, path: string, text: string, version: number): Promise<Diagnostic[]>;
   publish(uri: string, diagnostics: Diagnostic[]): void;
+  /** Before the first file and after each: `done` of `total` files checked (the project status). */
+  onProgress?(done: number, total: number, files: string[]): void;
 }
 
 export function sourcesUnder(folderUris: string[]): { files: string[]; skipped: { path: string; reason: string }[] } {
@@ -43,6 +45,7 @@ export async function checkWorkspace(folderUris: string[], hooks: CheckHooks, pr
       result.cancelled = true;
       break;
     }
+    hooks.onProgress?.(k, files.length, files);
     progress.report(Math.round((100 * k) / Math.max(files.length, 1)), path);
     const uri = pathToFileURL(path).href;
     let text: string;
