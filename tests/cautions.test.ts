@@ -135,6 +135,25 @@ describe('cautions', () => {
     expect(noOps).toEqual([]);
   }, 300_000);
 
+  it('a clause that looks like a macro of the build is a warning naming the define, not an error; a misspelt clause stays an error', async () => {
+    const src = [
+      '#define N 1000',
+      'void f(double *a) {',
+      '#pragma omp target teams distribute parallel for simd GPU_SCHEDULE map(tofrom: a[0:N])',
+      '  for (int i = 0; i < N; i++) a[i] *= 2.0;',
+      '#pragma omp target teams distribute parallel for maps(tofrom: a[0:N])',
+      '  for (int i = 0; i < N; i++) a[i] *= 2.0;',
+      '}',
+    ].join('\n');
+    const a = await analyzeText(src, 'macro_clause.c');
+    const syntax = a.findings.filter((f) => f.code === 'directive-syntax');
+    expect(syntax.map((f) => [f.range.start.line + 1, f.severity])).toEqual([[3, 'warning'], [5, 'error']]);
+    expect(syntax[0].message).toMatch(/looks like a macro the build defines \(`-DGPU_SCHEDULE=\.\.\.`\): give it with `--define GPU_SCHEDULE=\.\.\.`/);
+    // With the define the clause it stands for is read and nothing is reported.
+    const b = await analyzeText(src.replace('#define N 1000', '#define N 1000\n#define GPU_SCHEDULE schedule(static, 1)'), 'macro_clause.c');
+    expect(b.findings.filter((f) => f.code === 'directive-syntax').map((f) => f.severity)).toEqual(['error']);
+  });
+
   it('race messages quote the access as written (the index macro), not its expansion', async () => {
     const src = [
       '#define NX 64',

@@ -144,7 +144,7 @@ describe('names as portable codes spell them', () => {
   it('a math wrapper in the code\'s own namespace weighs as the function it is named after, and is not listed as unknown', async () => {
     const { readFileSync } = await import('node:fs');
     const file = join(ROOT, 'tests/fixtures/cost/qualifier_macros.cpp');
-    const a = await analyzeText(readFileSync(file, 'utf8'), file, new Map([['n', 1_000_000]]));
+    const a = await analyzeText(readFileSync(file, 'utf8'), file, { n: 1_000_000 });
     expect(a.notUnderstood.filter((x) => x.kind === 'call')).toEqual([]);
     // The RESTRICT macro does not hide the element type: float, 4 bytes per element.
     expect(a.nests[0].cost.footprints.map((f) => f.elementBytes)).toEqual([4, 4]);

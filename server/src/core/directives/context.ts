@@ -18,8 +18,8 @@ export interface ReadCtx {
 }
 
 /** Records a `directive-syntax` finding over body characters [from, to). */
-export function report(ctx: ReadCtx, from: number, to: number, message: string): void {
-  ctx.findings.push({ code: 'directive-syntax', severity: 'error', range: range(ctx.src, from, to), message });
+export function report(ctx: ReadCtx, from: number, to: number, message: string, severity: 'error' | 'warning' = 'error'): void {
+  ctx.findings.push({ code: 'directive-syntax', severity, range: range(ctx.src, from, to), message });
 }
 
 /** Normalises expression or name text: Fortran lower-cased outside quotes, C kept as written. */

@@ -248,9 +248,11 @@ function readClauses(ctx: ReadCtx, g: FamilyGrammar, head: Head): Clause[] {
     const name = keyword(ctx, w);
     let spec = g.clauses.get(name);
     if (!spec) {
-      // An upper-case word is often a macro the build defines (`-DGPU_SCHEDULE=...`).
-      const macroHint = /^[A-Z][A-Z0-9_]*$/.test(w.text) ? `; if it is a macro your build defines, give it with \`--define ${w.text}=...\`` : '';
-      report(ctx, w.start, w.end, `unknown ${g.title} clause '${w.text}'${macroHint}`);
+      // An upper-case word is most likely a macro the build defines (`-DGPU_SCHEDULE=...`): the
+      // program is then valid as built, so it is a warning that names the define, not an error.
+      const macro = /^[A-Z][A-Z0-9_]*$/.test(w.text) && /[A-Z]/.test(w.text) && w.text.length > 1;
+      const macroHint = macro ? `; it looks like a macro the build defines (\`-D${w.text}=...\`): give it with \`--define ${w.text}=...\` (or the defines setting, or read the build's flags from compile_commands.json) so the clause it stands for is read` : '';
+      report(ctx, w.start, w.end, `unknown ${g.title} clause '${w.text}'${macroHint}`, macro ? 'warning' : 'error');
       continue;
     }
     if (g.family === 'openacc' && name === 'self' && head.spec.name === 'update') spec = OPENACC_UPDATE_SELF;
