@@ -1,0 +1,209 @@
+/**
+ * The language server while a person types (issue 16, issue 15's status item): a burst of edits
+ * is answered with the diagnostics of the last version only and the analysis worker is never
+ * restarted for a newer edit (its start count and thread stay, read with the
+ * `offloadLedger/debugStats` request and the "analysis worker started" log line); the same text
+ * re-sent is answered from the document's last analysis without the engine; the models of
+ * unchanged sibling files are not rebuilt for an edit; the project status goes from "indexing N
+ * of M files" to "ready" on a workspace check. WorkerEngine itself is driven with a stand-in
+ * worker script: a stale job that never reaches a check is ended only after the timeout.
+ */
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { Superseded } from '../server/src/lsp/analysis/engine';
+import type { AnalysisJob } from '../server/src/lsp/analysis/job';
+import { sameInputs } from '../server/src/lsp/analysis/reuse';
+import { WorkerEngine } from '../server/src/lsp/analysis/workerEngine';
+import { DebugStatsRequest, type DebugStats, ProjectStatusNotification, type ProjectStatusParams, ServerCommands, type WorkspaceCheckResult } from '../server/src/lsp/protocol';
+import { generateSource, linesWith } from './e2e/generate';
+import { type TestClient, ROOT, startTestClient, uriOf } from './e2e/lspClient';
+
+const LONG = 180_000;
+const logs = (c: TestClient): string[] => c.notifications.filter((n) => n.method === 'window/logMessage').map((n) => (n.params as { message: string }).message);
+const stats = (c: TestClient): Promise<DebugStats> => c.request<DebugStats>(DebugStatsRequest.method, null);
+
+describe('typing into a generated file (debounce 0)', () => {
+  let c: TestClient;
+  let lines: string[];
+  let uri: string;
+  let version = 1;
+  beforeAll(async () => {
+    c = await startTestClient({ settings: { debounceMs: 0 } });
+    lines = generateSource(2000).split('\n');
+    uri = c.open('/tmp/offload-ledger-editing/typing.c', lines.join('\n'));
+    await c.waitForDiagnostics(uri, (p) => p.version === 1, LONG);
+  }, LONG);
+  afterAll(async () => {
+    expect(await c.close()).toBe(0);
+  });
+
+  it('a burst of edits yields diagnostics for the last version only, from the same warm worker', async () => {
+    const before = await stats(c);
+    expect(before.engine.kind).toBe('worker');
+    expect(before.engine.workerStarts).toBe(1);
+    const targets = linesWith(lines.join('\n'), '+= 1.0f;');
+    const seen = c.published.length;
+    for (let k = 0; k < 8; k++) {
+      version++;
+      const line = targets[(k * 5) % targets.length];
+      const old = lines[line];
+      lines[line] = `      u[(ny / 2) * nx + ${k}] += 1.0f;`;
+      void c.connection.sendNotification('textDocument/didChange', {
+        textDocument: { uri, version },
+        contentChanges: [{ range: { start: { line, character: 0 }, end: { line, character: old.length } }, text: lines[line] }],
+      });
+      await new Promise((r) => setTimeout(r, 20));
+    }
+    const last = version;
+    await c.waitForDiagnostics(uri, (p) => p.version === last, LONG);
+    // Stale results are dropped: nothing of an older version reached the client after the burst.
+    expect(c.published.slice(seen).filter((p) => p.uri === uri).map((p) => p.version)).toEqual([last]);
+    const after = await stats(c);
+    expect(after.engine.workerStarts).toBe(1);
+    expect(after.engine.workerThreadId).toBe(before.engine.workerThreadId);
+    expect(after.engine.timeouts).toBe(0);
+    // At least the job running when the burst began was marked stale rather than killed.
+    expect(after.engine.jobsCancelled).toBeGreaterThan(0);
+    expect(after.engine.jobsCompleted).toBeLessThan(before.engine.jobsCompleted + 8);
+    const started = logs(c).filter((m) => /analysis worker started/.test(m));
+    expect(started).toHaveLength(1);
+    expect(started[0]).toMatch(/analysis worker started \(#1, thread \d+\)/);
+    expect(logs(c).filter((m) => /worker stopped|unhandled|uncaught|failed/i.test(m))).toEqual([]);
+  }, LONG);
+
+  it('the same text re-sent is answered from the last analysis, without the engine', async () => {
+    const before = await stats(c);
+    const previous = c.published.filter((p) => p.uri === uri).at(-1)!;
+    version++;
+    c.change(uri, version, lines.join('\n'));
+    const diags = await c.waitForDiagnostics(uri, (p) => p.version === version, LONG);
+    expect(diags).toEqual(previous.diagnostics);
+    const after = await stats(c);
+    expect(after.viewCacheHits).toBe(before.viewCacheHits + 1);
+    expect(after.engine.jobsStarted).toBe(before.engine.jobsStarted);
+    // Hovers and lenses are served for the new version from the reused view.
+    const lenses = await c.request<unknown[]>('textDocument/codeLens', { textDocument: { uri } });
+    expect(lenses.length).toBeGreaterThan(0);
+  }, LONG);
+});
+
+describe('a project of sibling files', () => {
+  const DIR = join(ROOT, 'tests', 'fixtures', 'workspace');
+  const MAIN = join(DIR, 'main.c');
+  let c: TestClient;
+  beforeAll(async () => {
+    c = await startTestClient({ rootPath: DIR, settings: { debounceMs: 0 } });
+  });
+  afterAll(async () => {
+    expect(await c.close()).toBe(0);
+  });
+
+  it('opening a file indexes its siblings (indexing N of M, then ready); an edit does not re-model them', async () => {
+    const text = readFileSync(MAIN, 'utf8');
+    const uri = c.open(MAIN, text);
+    await c.waitForDiagnostics(uri, (p) => p.version === 1, LONG);
+    const ready = (await c.waitForNotification(ProjectStatusNotification.method, (p) => (p as ProjectStatusParams).state === 'ready')) as ProjectStatusParams;
+    // main.c and kernels.c.
+    expect(ready.files).toBe(2);
+    const states = c.notifications.filter((n) => n.method === ProjectStatusNotification.method).map((n) => n.params as ProjectStatusParams);
+    const indexing = states.findIndex((s) => s.state === 'indexing' && s.scope === uri);
+    expect(indexing).toBeGreaterThanOrEqual(0);
+    expect(states[indexing]).toMatchObject({ done: 0, total: 2 });
+    expect(states.findIndex((s) => s.state === 'ready')).toBeGreaterThan(indexing);
+    const first = await stats(c);
+    expect(first.engine.modelsBuilt).toBe(1);
+
+    c.change(uri, 2, `${text}\n/* an edit */\n`);
+    await c.waitForDiagnostics(uri, (p) => p.version === 2, LONG);
+    const second = await stats(c);
+    expect(second.engine.modelsBuilt).toBe(1);
+    expect(second.engine.modelHits).toBeGreaterThan(first.engine.modelHits);
+    // Nothing to build: no "indexing" for the edit.
+    const after = c.notifications.filter((n) => n.method === ProjectStatusNotification.method).map((n) => n.params as ProjectStatusParams);
+    expect(after.slice(states.length).filter((s) => s.state === 'indexing')).toEqual([]);
+  }, LONG);
+});
+
+describe('the project status during a workspace check', () => {
+  let c: TestClient;
+  beforeAll(async () => {
+    c = await startTestClient({ rootPath: join(ROOT, 'examples', 'hall') });
+  });
+  afterAll(async () => {
+    expect(await c.close()).toBe(0);
+  });
+
+  it('goes from "indexing 0 of 5" through each file to "ready" with the file count; a second check is answered from the cache', async () => {
+    const seen = c.notifications.length;
+    const result = await c.request<WorkspaceCheckResult>('workspace/executeCommand', { command: ServerCommands.checkWorkspace, arguments: [] });
+    expect(result.files).toBe(5);
+    const states = c.notifications.slice(seen).filter((n) => n.method === ProjectStatusNotification.method).map((n) => n.params as ProjectStatusParams);
+    const checking = states.filter((s) => s.state === 'indexing' && s.scope === 'workspace');
+    // examples/hall holds five C files (examples/README.md table).
+    expect(checking.map((s) => `${s.done} of ${s.total}`)).toEqual(['0 of 5', '1 of 5', '2 of 5', '3 of 5', '4 of 5']);
+    expect(states.at(-1)).toEqual({ state: 'ready', files: 5 });
+    const before = await stats(c);
+    const again = await c.request<WorkspaceCheckResult>('workspace/executeCommand', { command: ServerCommands.checkWorkspace, arguments: [] });
+    expect(again.findings).toEqual(result.findings);
+    const after = await stats(c);
+    expect(after.checkCacheHits - before.checkCacheHits).toBe(5);
+    expect(after.engine.jobsStarted).toBe(before.engine.jobsStarted);
+  }, LONG);
+});
+
+describe('WorkerEngine with a stand-in worker', () => {
+  // Replies like server/src/lsp/analysis/workerMain.ts; a job whose text is "spin" works for
+  // `ms` milliseconds of busy time, checking the shared cancellation flag only when `checks` is set.
+  const dir = mkdtempSync(join(tmpdir(), 'ol-engine-'));
+  const script = join(dir, 'worker.js');
+  writeFileSync(script, `
+const { parentPort, workerData, threadId } = require('node:worker_threads');
+const cancel = workerData.cancel;
+parentPort.on('message', ({ id, job }) => {
+  const counters = { modelsBuilt: 0, modelHits: 0, threadId };
+  const [kind, ms, checks] = job.text.split(' ');
+  const end = Date.now() + Number(ms || 0);
+  while (Date.now() < end) {
+    if (checks === 'checks' && Atomics.load(cancel, 0) >= id) return parentPort.postMessage({ id, kind: 'cancelled', counters });
+  }
+  parentPort.postMessage({ id, kind: 'done', view: { uri: job.uri, version: job.version }, counters });
+});
+`);
+  const job = (version: number, text: string): AnalysisJob => ({ uri: 'file:///a.c', version, path: '/a.c', language: 'c', text, bindings: [], baseline: 'auto', view: {} as AnalysisJob['view'] });
+
+  it('a newer edit marks the running job stale: it rejects at once, the worker stops it at its next check and takes the newer one', async () => {
+    const starts: number[] = [];
+    const e = new WorkerEngine(script, { onStart: (n) => starts.push(n) });
+    const first = e.analyze(job(1, 'spin 5000 checks'));
+    await new Promise((r) => setTimeout(r, 200));
+    const t0 = Date.now();
+    const second = e.analyze(job(2, 'spin 0'));
+    await expect(first).rejects.toBeInstanceOf(Superseded);
+    expect((await second).version).toBe(2);
+    expect(Date.now() - t0).toBeLessThan(4000);
+    expect(starts).toEqual([1]);
+    expect(e.stats()).toMatchObject({ workerStarts: 1, jobsCancelled: 1, timeouts: 0, jobsCompleted: 1 });
+    await e.dispose();
+  }, 30_000);
+
+  it('a stale job that never reaches a check is ended after the timeout, and a new worker takes the newest job', async () => {
+    const e = new WorkerEngine(script, { staleTimeoutMs: 300 });
+    const first = e.analyze(job(1, 'spin 20000'));
+    await new Promise((r) => setTimeout(r, 200));
+    const second = e.analyze(job(2, 'spin 0'));
+    await expect(first).rejects.toBeInstanceOf(Superseded);
+    expect((await second).version).toBe(2);
+    expect(e.stats()).toMatchObject({ workerStarts: 2, timeouts: 1 });
+    await e.dispose();
+  }, 30_000);
+
+  it('inputs compare by text, settings and the texts of the project files', () => {
+    const a = { ...job(1, 'x'), neighbours: [{ path: '/b.c', language: 'c' as const, text: 'b' }] };
+    expect(sameInputs(a, { ...a, version: 7 })).toBe(true);
+    expect(sameInputs(a, { ...a, text: 'y' })).toBe(false);
+    expect(sameInputs(a, { ...a, bindings: [['N', 4]] })).toBe(false);
+    expect(sameInputs(a, { ...a, neighbours: [{ ...a.neighbours[0], text: 'c' }] })).toBe(false);
+  });
+});
