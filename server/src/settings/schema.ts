@@ -111,10 +111,10 @@ export const SETTINGS = {
     type: 'integer',
     minimum: 0,
     maximum: 10000,
-    default: 300,
+    default: 100,
     scope: 'window',
     usedBy: 'server',
-    markdownDescription: 'Milliseconds of quiet after an edit before the file is analysed again.',
+    markdownDescription: 'Milliseconds of quiet after an edit before the file is analysed again. An edit during an analysis makes that analysis stale (its result is dropped and the analysis thread, with its caches, stays warm), so a short wait costs little.',
   },
   measuredHostProfile: {
     type: 'string',
