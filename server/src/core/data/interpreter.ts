@@ -6,7 +6,8 @@
  */
 import { relativeToFile } from '../paths';
 import * as S from '../symbolic';
-import type { ArrayAccess, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
+import type { ArrayAccess, Declaration, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
+import { findByName, firstByName } from '../model/names';
 import { isDataConstruct, isOffloadCompute } from '../model/directives';
 import { accessesOfStatement, childStatements, forEachAccessInValue, forEachCallInValue, printValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
 import type { Directive, Finding, Range, DirectiveFamily } from '../types';
@@ -259,7 +260,7 @@ export class DataInterpreter {
     // host address, so `curr->data` in a callee is the caller's `current.data`.
     const member = /^([A-Za-z_]\w*)(\.|->|%)(.+)$/.exec(name);
     if (member) return `${this.key(member[1], frame)}${member[2] === '%' ? '%' : '.'}${member[3].replace(/->/g, '.')}`;
-    if (frame.depth > 0 && frame.proc.locals.some((l) => l.name === name)) return `${frame.proc.name}::${name}`;
+    if (frame.depth > 0 && findByName(frame.proc.locals, name)) return `${frame.proc.name}::${name}`;
     return name;
   }
 
@@ -302,7 +303,7 @@ export class DataInterpreter {
 
   /** A variable of a struct or class type (not a number, not an array): its members alias with it. */
   private isStruct(name: string, frame: Frame): boolean {
-    const d = frame.proc.locals.find((x) => x.name === name) ?? frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+    const d = this.declOf(name, frame.proc);
     return !!d && !d.isArray && d.type.name === 'unknown';
   }
 
@@ -329,9 +330,9 @@ export class DataInterpreter {
       const sep = key.indexOf('::');
       const owner = sep >= 0 ? this.procs.get(key.slice(0, sep)) : this.root?.proc;
       const name = sep >= 0 ? key.slice(sep + 2) : key;
-      const decl = (owner && (owner.locals.find((d) => d.name === name) ?? owner.params.find((d) => d.name === name)))
-        ?? this.model.globals.find((d) => d.name === name)
-        ?? frame.proc.params.find((d) => d.name === localName);
+      const decl = (owner && (findByName(owner.locals, name) ?? findByName(owner.params, name)))
+        ?? findByName(this.model.globals, name)
+        ?? findByName(frame.proc.params, localName);
       const bindings = sep >= 0 || !this.root ? frame.bindings : this.root.bindings;
       i = arrayInfo(key, decl, this.model.layout, bindings, this.nestStrides(name));
       this.infos.set(key, i);
@@ -351,11 +352,16 @@ export class DataInterpreter {
     return this.infos.get(key);
   }
 
+  /** A name's declaration as the procedure sees it: its locals, its parameters, then the file's globals. */
+  private declOf(name: string, proc: Procedure): Declaration | undefined {
+    return findByName(proc.locals, name) ?? findByName(proc.params, name) ?? findByName(this.model.globals, name);
+  }
+
   private isArray(name: string, frame: Frame): boolean {
     // Members are declared in a struct the model does not keep; one used with a subscript or in
     // a data clause (the only places this is asked) is an array.
     if (isMember(name)) return true;
-    const d = frame.proc.locals.find((x) => x.name === name) ?? frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+    const d = this.declOf(name, frame.proc);
     return !!d && d.isArray;
   }
 
@@ -427,7 +433,7 @@ export class DataInterpreter {
         if (s.target.kind === 'var' && s.op === '=' && this.alias(s.target.name, s.value, ctx, s.range)) return;
         // Any other assignment to a pointer (`p = malloc(…)`) gives it storage of its own again.
         // (A callee's parameter keeps its caller's storage: its own is not modelled.)
-        const own = (n: string): boolean => ctx.frame.depth === 0 || ctx.frame.proc.locals.some((l) => l.name === n);
+        const own = (n: string): boolean => ctx.frame.depth === 0 || findByName(ctx.frame.proc.locals, n) !== undefined;
         if (s.target.kind === 'var' && ctx.frame.rename.has(s.target.name) && own(s.target.name) && this.isArray(s.target.name, ctx.frame) && !isMember(s.target.name)) {
           const rename = new Map(ctx.frame.rename);
           rename.delete(s.target.name);
@@ -614,7 +620,7 @@ export class DataInterpreter {
     const states = new Map<string, ArrayState>();
     const byKey = new Map<string, string>();
     for (const [param, key] of frame.rename) byKey.set(key, param);
-    const globals = new Set(this.model.globals.map((g) => g.name));
+    const globals = firstByName(this.model.globals);
     for (const key of this.env.presentKeys()) {
       const name = byKey.get(key) ?? (globals.has(key) ? key : undefined);
       if (!name) continue;
@@ -742,11 +748,11 @@ export class DataInterpreter {
    */
   private scalarTransfers(s: Stmt, d: Directive, ctx: Ctx): void {
     const isScalar = (name: string): boolean => {
-      const decl = ctx.frame.proc.locals.find((x) => x.name === name) ?? ctx.frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+      const decl = this.declOf(name, ctx.frame.proc);
       return !!decl && !decl.isArray && decl.type.name !== 'unknown';
     };
     const bytesOf = (name: string): number => {
-      const decl = ctx.frame.proc.locals.find((x) => x.name === name) ?? ctx.frame.proc.params.find((x) => x.name === name) ?? this.model.globals.find((x) => x.name === name);
+      const decl = this.declOf(name, ctx.frame.proc);
       return decl?.type.bytes ?? 8;
     };
     const moved = new Map<string, { toDevice: boolean; toHost: boolean }>();

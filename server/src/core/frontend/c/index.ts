@@ -59,7 +59,16 @@ export function buildCModel(parser: Parser, source: string | Preprocessed, path:
 
 class CModelBuilder {
   private readonly macros = new MacroTable();
+  /**
+   * Names in scope: the file's globals, and while a function is read its parameters and locals.
+   * A function's names are undone through `undo` when it ends, instead of copying the file-wide
+   * Map for every function.
+   */
   private readonly scope = new Map<string, Declaration>();
+  /** Earlier entries of names set inside functions (undefined: the name was not in scope). */
+  private readonly undo: [string, Declaration | undefined][] = [];
+  /** Functions being read (the undo log is kept only inside one). */
+  private depth = 0;
   private readonly exprs: CExpressionBuilder;
   private readonly stmts: CStatementBuilder;
   private locals: Declaration[] = [];
@@ -93,7 +102,7 @@ class CModelBuilder {
       ppMacros,
       declare: (d) => {
         this.locals.push(d);
-        this.scope.set(d.name, d);
+        this.bind(d);
       },
     });
   }
@@ -191,7 +200,7 @@ class CModelBuilder {
     this.enums(n);
     for (const { decl } of readDeclaration(n, 'global', this.exprs)) {
       this.model.globals.push(decl);
-      this.scope.set(decl.name, decl);
+      this.bind(decl);
     }
   }
 
@@ -217,15 +226,36 @@ class CModelBuilder {
     while (decl && decl.type !== 'function_declarator') decl = field(decl, 'declarator') ?? namedChildren(decl)[0];
     if (!decl) return;
     const nameNode = field(decl, 'declarator');
+    const mark = this.undo.length;
+    this.depth++;
+    try {
+      this.procedureBody(n, decl, nameNode);
+    } finally {
+      this.depth--;
+      // Back to the names in scope before the function, newest change undone first.
+      while (this.undo.length > mark) {
+        const [name, before] = this.undo.pop()!;
+        if (before === undefined) this.scope.delete(name);
+        else this.scope.set(name, before);
+      }
+    }
+  }
+
+  /** Puts a name in scope; inside a function, what it hides is logged so the function's end restores it. */
+  private bind(d: Declaration): void {
+    if (this.depth > 0) this.undo.push([d.name, this.scope.get(d.name)]);
+    this.scope.set(d.name, d);
+  }
+
+  private procedureBody(n: Node, decl: Node, nameNode: Node | undefined): void {
     const name = nameNode?.text ?? '?';
-    const saved = new Map(this.scope);
     this.locals = [];
     const params: Declaration[] = [];
     for (const p of namedChildren(field(decl, 'parameters') ?? decl)) {
       if (p.type !== 'parameter_declaration') continue;
       for (const { decl: d } of readDeclaration(p, 'param', this.exprs)) {
         params.push(d);
-        this.scope.set(d.name, d);
+        this.bind(d);
       }
     }
     const body = this.stmts.block(field(n, 'body'));
@@ -241,8 +271,6 @@ class CModelBuilder {
     const notes = this.templateNotes.flat();
     if (notes.length > 0) proc.assumptions = notes;
     this.model.procedures.push(proc);
-    this.scope.clear();
-    for (const [k, v] of saved) this.scope.set(k, v);
   }
 
   /** Object-like macros with an integer body become bindings; floating literals become typed constants. */
