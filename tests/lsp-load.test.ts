@@ -70,7 +70,8 @@ describe.skipIf(skip)('1,000 rapid edits to a 5,000-line file', () => {
 
     const freshUri = fresh.open(PATH, lines.join('\n'));
     const expected = await fresh.waitForDiagnostics(freshUri, () => true, 120_000);
-    expect(final.length).toBeGreaterThan(1000);
+    // At least one finding per generated unit (its time loop moves u, v and c every step).
+    expect(final.length).toBeGreaterThanOrEqual(targets.length);
     expect(final).toEqual(expected);
 
     expect(c.child.exitCode).toBeNull();
