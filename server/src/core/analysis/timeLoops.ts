@@ -162,7 +162,7 @@ export class LoopJudge {
       const record = (a: ArrayAccess, read: boolean, write: boolean): void => {
         const alias = f.aliases.get(a.array);
         const name = alias?.array ?? this.nameIn(a.array, f);
-        const ownPass = !!alias?.ownPass || !!f.picked || (!!v && a.subscripts.some((sub, k) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(a.subscriptValues[k], v))));
+        const ownPass = !!alias?.ownPass || !!f.picked || (!!v && (a.subscripts.some((sub, k) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(a.subscriptValues[k], v))) || !!a.through?.some((x) => mentions(x, v))));
         events.push({ array: name, read, write, ownPass, picked: alias?.picked ?? f.picked, line, via: f.depth > 0 ? f.proc.name : undefined, key: keyOf(a, f.canon) });
       };
       const reads = (e: VExpr): void => {
@@ -262,6 +262,11 @@ export class LoopJudge {
       let b = strip(a);
       // A container's storage (`u.data()`, `u->data()`) is the container's array.
       if (b.kind === 'call' && b.args.length === 0 && /(\.|->)data$/.test(b.name)) b = { kind: 'var', name: b.name.replace(/(\.|->)data$/, '') };
+      // A component of the element a loop over `v` picks (`chunk%tiles(v)%field%u`): that pass's own copy.
+      if (b.kind === 'var' && v && b.through?.some((x) => mentions(x, v))) {
+        const name = f.aliases.get(b.name)?.array ?? this.nameIn(b.name, f);
+        return { name, alias: { array: name, ownPass: true, picked: printValue(b) } };
+      }
       if (b.kind === 'var' && (this.isPointer(b.name, f) || f.aliases.has(b.name))) {
         const alias = f.aliases.get(b.name);
         return { name: alias?.array ?? this.nameIn(b.name, f), alias: alias ?? (f.picked ? { array: this.nameIn(b.name, f), ownPass: true, picked: f.picked } : undefined) };

@@ -86,7 +86,11 @@ export function parseVarRef(ctx: ReadCtx, item: Span): VarRef | undefined {
   }
   const rest = skipSpace(s, i, end);
   if (rest < end) return bad(ctx, { start: rest, end }, `unexpected '${slice(ctx, rest, end)}' after the variable`);
-  const name = norm(ctx, s.slice(start, nameEnd).replace(/\s+/g, ''));
+  // A Fortran component reached through an element (`chunk%tiles(1)%field%density0`) is named
+  // by its path without the element's index, as the front end names it in code: one storage
+  // for every element's copy (the index is not followed).
+  const written = s.slice(start, nameEnd).replace(/\s+/g, '');
+  const name = norm(ctx, ctx.fortran ? written.replace(/\((?:[^()]|\([^()]*\))*\)(?=%)/g, '') : written);
   return { name, dims, range: range(ctx.src, start, end), text: s.slice(start, end) };
 }
 

@@ -45,7 +45,12 @@ export interface Declaration {
  */
 export type VExpr =
   | { kind: 'num'; text: string; isFloat: boolean; bytes?: number }
-  | { kind: 'var'; name: string }
+  /**
+   * `through`: the element indexes a Fortran component path passed on its way (`t` in
+   * `chunk%tiles(t)%field%u`): the path names one storage for every element, and these say which
+   * element's copy this is (a loop over `t` touches a different one each pass).
+   */
+  | { kind: 'var'; name: string; through?: VExpr[] }
   | { kind: 'index'; access: ArrayAccess }
   | { kind: 'bin'; op: string; left: VExpr; right: VExpr }
   | { kind: 'unary'; op: string; operand: VExpr }
@@ -57,6 +62,8 @@ export type VExpr =
 /** One array element reference, with subscripts as symbolic forms (first written first). */
 export interface ArrayAccess {
   array: string;
+  /** Element indexes a component path passed on its way (see the `var` VExpr). */
+  through?: VExpr[];
   /** Symbolic subscripts; an entry is undefined when that subscript is not an integer expression we can read. */
   subscripts: (Expr | undefined)[];
   /** Subscript source text, for messages. */

@@ -249,6 +249,8 @@ export class ExprParser {
     let name = first.v;
     this.i++;
     let result: VExpr | undefined;
+    // Element indexes dropped from a component path (`t` of `chunk%tiles(t)%field%u`).
+    const through: VExpr[] = [];
     for (;;) {
       if (isOp(this.peek(), '(')) {
         const open = this.i;
@@ -260,13 +262,26 @@ export class ExprParser {
           continue;
         }
         result = this.applied(name, first, open, close);
+        if (through.length > 0 && result.kind === 'index') result.access.through = [...through];
         this.i = close + 1;
         continue;
       }
       if (isOp(this.peek(), '%') && this.peek(1)?.t === 'id') {
-        // A component of an element (`a(i)%x`) is read through the element already recorded.
-        name = `${name}%${this.peek(1)!.v}`;
-        this.i += 2;
+        // A component of an element. `a(i)%x` alone reads that element of `a`. A deeper path or a
+        // subscripted component (`chunk%tiles(t)%field%density0`, `a(i)%b(j)`) reaches an array
+        // held inside the element: it is its own storage, named by its path without the element's
+        // index (`chunk%tiles%field%density0`), so every element's copy is one storage to the
+        // ledger and the members of one element are not one another.
+        let chain = 0;
+        while (isOp(this.peek(2 * chain), '%') && this.peek(2 * chain + 1)?.t === 'id') chain++;
+        if (result && (chain >= 2 || isOp(this.peek(2 * chain), '('))) {
+          if (result.kind === 'index') through.push(...(result.access.through ?? []), ...result.access.subscriptValues);
+          result = undefined;
+        }
+        for (let c = 0; c < chain; c++) {
+          name = `${name}%${this.peek(1)!.v}`;
+          this.i += 2;
+        }
         continue;
       }
       break;
@@ -276,7 +291,7 @@ export class ExprParser {
     if (lit) return realLiteral(lit.toLowerCase(), this.env);
     const decl = this.env.arrayOf(name);
     // A name renamed by `use m, only: local => remote` refers to the module's declaration.
-    const v: VExpr = { kind: 'var', name: decl?.name ?? name };
+    const v: VExpr = { kind: 'var', name: decl?.name ?? name, ...(through.length > 0 ? { through } : {}) };
     if (decl) varRanges.set(v, rangeIn(this.text, first.s, this.toks[this.i - 1].e));
     return v;
   }
