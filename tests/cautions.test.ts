@@ -154,6 +154,29 @@ describe('cautions', () => {
     expect(b.findings.filter((f) => f.code === 'directive-syntax').map((f) => f.severity)).toEqual(['error']);
   });
 
+  it('an inner loop that declares the outer loop\'s variable again hides it: no dependence is claimed for the hidden loop', async () => {
+    // A wavefront over tiles: the gang loop over tile columns `j` picks tiles on one anti-diagonal
+    // (independent), and inside each tile new `i`, `j` sweep the elements in order.
+    const src = [
+      '#include <algorithm>',
+      'void sweep(int n, int nb, int nc, double *grid) {',
+      '  for (int d = 2; d <= 2 * nb; d++) {',
+      '#pragma acc parallel loop gang present(grid[0:n*n])',
+      '    for (int j = std::max(2, d - nb + 1); j <= std::min(d, nb + 1); j++) {',
+      '      const int ib = nc * (d - j) + 1;',
+      '      const int jb = nc * (j - 2) + 1;',
+      '#pragma acc loop seq',
+      '      for (int i = ib; i < std::min(n, ib + nc); i++)',
+      '        for (int j = jb; j < std::min(n, jb + nc); j++)',
+      '          grid[i * n + j] = grid[(i - 1) * n + j] + grid[i * n + (j - 1)] - grid[(i - 1) * n + (j - 1)];',
+      '    }',
+      '  }',
+      '}',
+    ].join('\n');
+    const a = await analyzeText(src, 'wavefront.cpp');
+    expect(a.findings.filter((f) => f.severity === 'error').map((f) => f.message)).toEqual([]);
+  });
+
   it('race messages quote the access as written (the index macro), not its expansion', async () => {
     const src = [
       '#define NX 64',

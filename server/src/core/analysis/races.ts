@@ -59,10 +59,26 @@ export function raceFindings(model: ProgramModel, nests: LoopNest[], bindingsOf:
     // §2.9): the compiler must prove them parallel, so a dependence there is not a race.
     const parallel = kernelsAuto(nest.offload) ? new Set([...parallelLoops(nest)].filter(isIndependent)) : parallelLoops(nest);
     const privates = privateFindings(model, nest);
-    if (parallel.size > 0) out.push(...dependences(model, nest, parallel, bindingsOf(nest), privates));
+    // An inner loop that declares its own `i` again (`for (int i = ib; …)` inside a loop over
+    // `i`) hides the outer one: subscripts name the inner one, so distances in the outer are
+    // unknown. No dependence is claimed for the hidden loops (the inner ones are still tested).
+    const hidden = shadowedLoops(nest);
+    const tested = hidden.size > 0 ? new Set([...parallel].filter((l) => !hidden.has(l))) : parallel;
+    if (tested.size > 0) out.push(...dependences(model, nest, tested, bindingsOf(nest), privates));
     out.push(...reductions(model, nest));
     out.push(...privates.findings);
     out.push(...collapseFindings(model, nest));
+  }
+  return out;
+}
+
+/** Loops of the nest whose variable an inner loop of the same nest declares again. */
+function shadowedLoops(nest: LoopNest): Set<LoopStmt> {
+  const out = new Set<LoopStmt>();
+  for (const path of nest.paths) {
+    path.forEach((l, k) => {
+      if (l.variable && path.slice(k + 1).some((m) => m.variable === l.variable)) out.add(l);
+    });
   }
   return out;
 }
