@@ -199,6 +199,19 @@ parentPort.on('message', ({ id, job }) => {
     await e.dispose();
   }, 30_000);
 
+  it('an edit marks the running job stale before the debounce ends (cancel); a job with the same inputs shares the running one', async () => {
+    const e = new WorkerEngine(script);
+    const first = e.analyze(job(1, 'spin 5000 checks'));
+    await new Promise((r) => setTimeout(r, 200));
+    e.cancel('file:///a.c');
+    await expect(first).rejects.toBeInstanceOf(Superseded);
+    const a = e.analyze(job(2, 'spin 300'));
+    const b = e.analyze(job(3, 'spin 300'));
+    expect([(await a).version, (await b).version]).toEqual([2, 3]);
+    expect(e.stats()).toMatchObject({ workerStarts: 1, jobsStarted: 2, jobsCancelled: 1 });
+    await e.dispose();
+  }, 30_000);
+
   it('inputs compare by text, settings and the texts of the project files', () => {
     const a = { ...job(1, 'x'), neighbours: [{ path: '/b.c', language: 'c' as const, text: 'b' }] };
     expect(sameInputs(a, { ...a, version: 7 })).toBe(true);

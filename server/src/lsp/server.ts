@@ -223,7 +223,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
   documents.onDidChangeContent(async (e) => {
     if (e.document.version === scheduler.latest(e.document.uri)?.version) return;
     const s = await config.forDocument(e.document.uri);
-    scheduler.schedule(e.document.uri, s.debounceMs);
+    scheduler.schedule(e.document.uri, s.debounceMs, true);
   });
   documents.onDidClose((e) => {
     scheduler.forget(e.document.uri);

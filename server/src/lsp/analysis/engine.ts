@@ -29,6 +29,11 @@ export interface AnalysisEngine {
    * drops its work at the next check (between files and phases) — the thread and its caches stay.
    */
   analyze(job: AnalysisJob): Promise<DocumentView>;
+  /**
+   * The document has changed (its newer job follows after the debounce): a running job for it is
+   * marked stale now, so the worker stops it at its next check instead of after the debounce.
+   */
+  cancel?(uri: string): void;
   stats(): EngineStats;
   dispose(): Promise<void>;
   readonly kind: 'worker' | 'in-process';

@@ -38,8 +38,13 @@ export class Scheduler {
     private readonly hooks: SchedulerHooks,
   ) {}
 
-  /** Analyse `uri` after `delayMs` of quiet; a newer call restarts the wait. */
-  schedule(uri: string, delayMs: number): void {
+  /**
+   * Analyse `uri` after `delayMs` of quiet; a newer call restarts the wait. `edited`: the text
+   * changed, so a running analysis of the document is stale from now on (not only once the newer
+   * job is sent after the debounce).
+   */
+  schedule(uri: string, delayMs: number, edited = false): void {
+    if (edited) this.engine.cancel?.(uri);
     clearTimeout(this.timers.get(uri));
     this.timers.set(
       uri,

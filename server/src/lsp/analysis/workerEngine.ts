@@ -12,6 +12,7 @@ import { Worker } from 'node:worker_threads';
 import type { DocumentView } from '../view/types';
 import { type AnalysisEngine, type EngineEvents, type EngineStats, Superseded } from './engine';
 import type { AnalysisJob } from './job';
+import { sameInputs } from './reuse';
 import type { WorkerData, WorkerReply } from './workerMain';
 
 interface Pending {
@@ -41,7 +42,7 @@ export class WorkerEngine implements AnalysisEngine {
   private queue: Pending[] = [];
   private nextId = 1;
   private disposed = false;
-  private readonly cancel = new Int32Array(new SharedArrayBuffer(4));
+  private readonly flag = new Int32Array(new SharedArrayBuffer(4));
   private readonly counters: EngineStats = {
     kind: 'worker', workerStarts: 0, workerThreadId: -1, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
   };
@@ -55,13 +56,38 @@ export class WorkerEngine implements AnalysisEngine {
 
   analyze(job: AnalysisJob): Promise<DocumentView> {
     if (this.disposed) return Promise.reject(new Error('analysis engine disposed'));
+    // A queued or running job with the same inputs (a settings change that changes nothing, the
+    // same text re-sent) answers this one too.
+    const queued = this.queue.find((q) => q.job.uri === job.uri);
+    if (queued && sameInputs(queued.job, job)) return this.share(queued, job);
+    const r = this.running;
+    if (!queued && r?.pending && r.job.uri === job.uri && sameInputs(r.job, job)) return this.share(r.pending, job);
     for (const p of this.queue.filter((q) => q.job.uri === job.uri)) p.reject(new Superseded(p.job.uri, p.job.version));
     this.queue = this.queue.filter((q) => q.job.uri !== job.uri);
     const promise = new Promise<DocumentView>((resolve, reject) => this.queue.push({ id: this.nextId++, job, resolve, reject }));
-    const r = this.running;
     if (r && r.pending && r.job.uri === job.uri) this.markStale(r);
     this.pump();
     return promise;
+  }
+
+  /** Makes `p` (queued or running) answer `job` as well, with its version. */
+  private share(p: Pending, job: AnalysisJob): Promise<DocumentView> {
+    return new Promise<DocumentView>((resolve, reject) => {
+      const { resolve: before, reject: fail } = p;
+      p.resolve = (v) => {
+        before(v);
+        resolve(v.version === job.version ? v : { ...v, version: job.version });
+      };
+      p.reject = (e) => {
+        fail(e);
+        reject(e);
+      };
+    });
+  }
+
+  cancel(uri: string): void {
+    const r = this.running;
+    if (r && r.pending && r.job.uri === uri) this.markStale(r);
   }
 
   /** Tells the caller of a running job that it is superseded and asks the worker to drop it. */
@@ -69,7 +95,7 @@ export class WorkerEngine implements AnalysisEngine {
     const p = r.pending!;
     r.pending = undefined;
     this.counters.jobsCancelled++;
-    Atomics.store(this.cancel, 0, Math.max(Atomics.load(this.cancel, 0), r.id));
+    Atomics.store(this.flag, 0, Math.max(Atomics.load(this.flag, 0), r.id));
     p.reject(new Superseded(p.job.uri, p.job.version));
     const timeout = this.events.staleTimeoutMs ?? 60_000;
     r.watchdog = setTimeout(() => {
@@ -103,7 +129,7 @@ export class WorkerEngine implements AnalysisEngine {
 
   private ensureWorker(): Worker {
     if (this.worker) return this.worker;
-    const w = new Worker(this.script, { workerData: { cancel: this.cancel } satisfies WorkerData });
+    const w = new Worker(this.script, { workerData: { cancel: this.flag } satisfies WorkerData });
     w.unref();
     this.counters.workerStarts++;
     this.counters.workerThreadId = w.threadId;
