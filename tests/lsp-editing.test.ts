@@ -16,6 +16,7 @@ import { Superseded } from '../server/src/lsp/analysis/engine';
 import type { AnalysisJob } from '../server/src/lsp/analysis/job';
 import { sameInputs } from '../server/src/lsp/analysis/reuse';
 import { WorkerEngine } from '../server/src/lsp/analysis/workerEngine';
+import { projectStatusText } from '../client/src/projectStatusText';
 import { DebugStatsRequest, type DebugStats, ProjectStatusNotification, type ProjectStatusParams, ServerCommands, type WorkspaceCheckResult } from '../server/src/lsp/protocol';
 import { generateSource, linesWith } from './e2e/generate';
 import { type TestClient, ROOT, startTestClient, uriOf } from './e2e/lspClient';
@@ -218,5 +219,18 @@ parentPort.on('message', ({ id, job }) => {
     expect(sameInputs(a, { ...a, text: 'y' })).toBe(false);
     expect(sameInputs(a, { ...a, bindings: [['N', 4]] })).toBe(false);
     expect(sameInputs(a, { ...a, neighbours: [{ ...a.neighbours[0], text: 'c' }] })).toBe(false);
+  });
+});
+
+describe('the project status item (client/src/statusBar.ts)', () => {
+  it('says "Indexing N of M files" while indexing and the file count when ready, with a tooltip saying what it is', () => {
+    const indexing = projectStatusText({ state: 'indexing', done: 3, total: 40, files: 12, scope: 'workspace' });
+    expect(indexing.text).toBe('$(sync~spin) Indexing 3 of 40 files');
+    expect(indexing.tooltip).toMatch(/^Offload Ledger project index: /);
+    expect(indexing.tooltip).toContain('Checking the workspace: 3 of 40 files done.');
+    const ready = projectStatusText({ state: 'ready', files: 40 });
+    expect(ready.text).toBe('$(database) 40 files');
+    expect(ready.tooltip).toContain('Ready: 40 files indexed.');
+    expect(projectStatusText({ state: 'ready', files: 1 }).text).toBe('$(database) 1 file');
   });
 });
