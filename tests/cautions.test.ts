@@ -177,6 +177,25 @@ describe('cautions', () => {
     expect(a.findings.filter((f) => f.severity === 'error').map((f) => f.message)).toEqual([]);
   });
 
+  it('a doacross loop (ordered(2) with depend(sink)) synchronises its dependences: no race is claimed; without ordered it is one', async () => {
+    const src = (ordered: boolean): string => [
+      '#define N 512',
+      'void pipeline(double g[N][N]) {',
+      '#pragma omp target map(tofrom: g[0:N][0:N])',
+      `#pragma omp parallel for collapse(2)${ordered ? ' ordered(2)' : ''}`,
+      '  for (int j = 1; j < N; j++)',
+      '    for (int i = 1; i < N; i++) {',
+      ...(ordered ? ['#pragma omp ordered depend(sink: j, i - 1) depend(sink: j - 1, i)'] : []),
+      '      g[j][i] = g[j][i - 1] + g[j - 1][i];',
+      ...(ordered ? ['#pragma omp ordered depend(source)'] : []),
+      '    }',
+      '}',
+    ].join('\n');
+    const races = async (ordered: boolean) => (await analyzeText(src(ordered), 'doacross.c')).findings.filter((f) => f.code === 'loop-carried-dependence');
+    expect(await races(true)).toEqual([]);
+    expect((await races(false)).length).toBeGreaterThan(0);
+  });
+
   it('race messages quote the access as written (the index macro), not its expansion', async () => {
     const src = [
       '#define NX 64',

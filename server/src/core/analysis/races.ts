@@ -202,8 +202,19 @@ function directLoopsOf(stmts: readonly Stmt[]): LoopStmt[] {
 /** Loops of the nest that a directive runs in parallel (collapse counts; `seq` excludes). */
 export function parallelLoops(nest: LoopNest): Set<LoopStmt> {
   const out = new Set<LoopStmt>();
+  // A loop with an `ordered` clause runs its ordered part in iteration order, and `ordered(n)`
+  // with `depend(sink: …)` / `doacross` waits for the iterations it names (OpenMP 5.2 §11.5.4,
+  // §15.10): its dependences are synchronised, not races. It and the loops it binds are skipped.
+  let orderedLeft = 0;
   const visit = (loop: LoopStmt, remainingCollapse: number): void => {
     const d = loop.directives.find(isLoopDirective);
+    const ordered = d?.clauses.find((c) => c.canonical === 'ordered');
+    if (ordered) orderedLeft = Math.max(collapseCount(d!), Number.parseInt(ordered.value ?? '1', 10) || 1);
+    if (orderedLeft > 0) {
+      orderedLeft--;
+      for (const s of loop.body) walkLoops(s, (l) => visit(l, 0));
+      return;
+    }
     let collapse = remainingCollapse;
     if (d && !d.clauses.some((c) => c.canonical === 'seq')) {
       out.add(loop);
