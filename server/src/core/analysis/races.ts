@@ -204,7 +204,8 @@ export function parallelLoops(nest: LoopNest): Set<LoopStmt> {
   const out = new Set<LoopStmt>();
   // A loop with an `ordered` clause runs its ordered part in iteration order, and `ordered(n)`
   // with `depend(sink: …)` / `doacross` waits for the iterations it names (OpenMP 5.2 §11.5.4,
-  // §15.10): its dependences are synchronised, not races. It and the loops it binds are skipped.
+  // §15.10; section numbers from memory): its dependences are synchronised, not races. It and the
+  // loops it binds are skipped.
   let orderedLeft = 0;
   const visit = (loop: LoopStmt, remainingCollapse: number): void => {
     const d = loop.directives.find(isLoopDirective);
