@@ -84,8 +84,10 @@ export interface EngineCounters {
   kind: 'worker' | 'in-process';
   /** Analysis threads started: 1 for a worker that stayed warm; more only after a crash or a timeout. */
   workerStarts: number;
-  /** Thread id of the current worker (0 in process, -1 when none runs). */
+  /** Thread id of the first worker (0 in process, -1 when none runs). */
   workerThreadId: number;
+  /** Worker threads running now (at most two: a second one takes the newest job while the first finishes a stale step). */
+  workers: number;
   jobsStarted: number;
   jobsCompleted: number;
   /** Running jobs marked stale by a newer edit of the same document (their results were dropped). */

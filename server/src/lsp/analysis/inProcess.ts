@@ -20,7 +20,7 @@ export class InProcessEngine implements AnalysisEngine {
   private running = false;
   private grammars: Promise<Grammars> | undefined;
   private readonly counters: EngineStats = {
-    kind: 'in-process', workerStarts: 0, workerThreadId: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
+    kind: 'in-process', workerStarts: 0, workerThreadId: 0, workers: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
   };
 
   constructor(private readonly events: EngineEvents = {}) {}

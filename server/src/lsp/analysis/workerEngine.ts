@@ -1,13 +1,16 @@
 /**
- * Analysis in one worker thread, so a long analysis (seconds on a 20,000-line file) never blocks
- * hovers or the reading of newer edits. The thread stays warm for the life of the server (its
- * grammars, parsers and the models of unchanged files are reused): a newer version of the
- * document being analysed marks the running job stale through a shared flag, the job's promise
- * rejects with Superseded at once, and the worker drops the job at its next check (between files
- * and phases) and takes the newest. Only a stale job that does not stop within `staleTimeoutMs`
- * (one analysis step longer than that) ends the thread; a worker that dies on its own fails the
+ * Analysis in worker threads, so a long analysis (seconds on a 20,000-line file) never blocks
+ * hovers or the reading of newer edits. The threads stay warm for the life of the server (their
+ * grammars, parsers and the models of unchanged files are reused): a newer version of a
+ * document being analysed marks the running job stale through a flag shared with its thread,
+ * the job's promise rejects with Superseded at once, and the thread drops the job at its next
+ * check (between files and phases). The newest job does not wait for that: when the first thread
+ * is still finishing a stale step, a second warm thread (started the first time it is needed, at
+ * most `maxWorkers`) takes it, so the last edit waits for about one analysis. Only a stale job that
+ * does not stop within `staleTimeoutMs` ends its thread; a thread that dies on its own fails the
  * job it held and is replaced for the next one.
  */
+import { availableParallelism } from 'node:os';
 import { Worker } from 'node:worker_threads';
 import type { DocumentView } from '../view/types';
 import { type AnalysisEngine, type EngineEvents, type EngineStats, Superseded } from './engine';
@@ -30,29 +33,42 @@ interface Running {
   watchdog?: NodeJS.Timeout;
 }
 
+interface Slot {
+  worker: Worker | undefined;
+  running: Running | undefined;
+  /** [0]: the id of the newest job of this thread marked stale. */
+  flag: Int32Array;
+  threadId: number;
+}
+
 export interface WorkerEngineOptions extends EngineEvents {
-  /** How long a stale job may keep the worker before the worker is replaced (default 60 s). */
+  /** How long a stale job may keep its worker before the worker is replaced (default 60 s). */
   staleTimeoutMs?: number;
+  /** Worker threads at most (default 2, or 1 on a one-core machine). */
+  maxWorkers?: number;
 }
 
 export class WorkerEngine implements AnalysisEngine {
   readonly kind = 'worker' as const;
-  private worker: Worker | undefined;
-  private running: Running | undefined;
+  private readonly slots: Slot[] = [];
   private queue: Pending[] = [];
   private nextId = 1;
   private disposed = false;
-  private readonly flag = new Int32Array(new SharedArrayBuffer(4));
+  private readonly maxWorkers: number;
   private readonly counters: EngineStats = {
-    kind: 'worker', workerStarts: 0, workerThreadId: -1, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
+    kind: 'worker', workerStarts: 0, workerThreadId: -1, workers: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
   };
+  /** Model cache counters per thread (summed in stats()). */
+  private readonly models = new Map<number, { built: number; hits: number }>();
   /** Workers terminated on purpose (shutdown, timeout): their exit is not a crash. */
   private readonly terminating = new WeakSet<Worker>();
 
   constructor(
     private readonly script: string,
     private readonly events: WorkerEngineOptions = {},
-  ) {}
+  ) {
+    this.maxWorkers = Math.max(1, events.maxWorkers ?? Math.min(2, availableParallelism()));
+  }
 
   analyze(job: AnalysisJob): Promise<DocumentView> {
     if (this.disposed) return Promise.reject(new Error('analysis engine disposed'));
@@ -60,14 +76,19 @@ export class WorkerEngine implements AnalysisEngine {
     // same text re-sent) answers this one too.
     const queued = this.queue.find((q) => q.job.uri === job.uri);
     if (queued && sameInputs(queued.job, job)) return this.share(queued, job);
-    const r = this.running;
-    if (!queued && r?.pending && r.job.uri === job.uri && sameInputs(r.job, job)) return this.share(r.pending, job);
+    const live = this.slots.find((s) => s.running?.pending && s.running.job.uri === job.uri);
+    if (!queued && live && sameInputs(live.running!.job, job)) return this.share(live.running!.pending!, job);
     for (const p of this.queue.filter((q) => q.job.uri === job.uri)) p.reject(new Superseded(p.job.uri, p.job.version));
     this.queue = this.queue.filter((q) => q.job.uri !== job.uri);
     const promise = new Promise<DocumentView>((resolve, reject) => this.queue.push({ id: this.nextId++, job, resolve, reject }));
-    if (r && r.pending && r.job.uri === job.uri) this.markStale(r);
+    if (live) this.markStale(live);
     this.pump();
     return promise;
+  }
+
+  cancel(uri: string): void {
+    const live = this.slots.find((s) => s.running?.pending && s.running.job.uri === uri);
+    if (live) this.markStale(live);
   }
 
   /** Makes `p` (queued or running) answer `job` as well, with its version. */
@@ -85,65 +106,79 @@ export class WorkerEngine implements AnalysisEngine {
     });
   }
 
-  cancel(uri: string): void {
-    const r = this.running;
-    if (r && r.pending && r.job.uri === uri) this.markStale(r);
-  }
-
-  /** Tells the caller of a running job that it is superseded and asks the worker to drop it. */
-  private markStale(r: Running): void {
+  /** Tells the caller of a running job that it is superseded and asks its worker to drop it. */
+  private markStale(slot: Slot): void {
+    const r = slot.running!;
     const p = r.pending!;
     r.pending = undefined;
     this.counters.jobsCancelled++;
-    Atomics.store(this.flag, 0, Math.max(Atomics.load(this.flag, 0), r.id));
+    Atomics.store(slot.flag, 0, r.id);
     p.reject(new Superseded(p.job.uri, p.job.version));
-    const timeout = this.events.staleTimeoutMs ?? 60_000;
     r.watchdog = setTimeout(() => {
-      if (this.running !== r) return;
-      // The job has not reached a check in time: a fresh worker takes the queue.
+      if (slot.running !== r) return;
+      // The job has not reached a check in time: a fresh worker takes this slot.
       this.counters.timeouts++;
-      this.running = undefined;
-      this.stopWorker();
+      slot.running = undefined;
+      this.stopWorker(slot);
       this.pump();
-    }, timeout);
+    }, this.events.staleTimeoutMs ?? 60_000);
     r.watchdog.unref?.();
   }
 
   stats(): EngineStats {
-    return { ...this.counters, workerThreadId: this.worker ? this.counters.workerThreadId : -1 };
+    let built = 0;
+    let hits = 0;
+    for (const m of this.models.values()) {
+      built += m.built;
+      hits += m.hits;
+    }
+    const first = this.slots[0];
+    return {
+      ...this.counters,
+      workerThreadId: first?.worker ? first.threadId : -1,
+      workers: this.slots.filter((s) => s.worker).length,
+      modelsBuilt: built,
+      modelHits: hits,
+    };
   }
 
   private pump(): void {
-    if (this.running || this.disposed) return;
-    const next = this.queue.shift();
-    if (!next) return;
-    this.running = { id: next.id, job: next.job, pending: next };
-    this.counters.jobsStarted++;
-    this.ensureWorker().postMessage({ id: next.id, job: next.job });
+    while (!this.disposed && this.queue.length > 0) {
+      // An idle warm worker first; else a new one while fewer than maxWorkers run.
+      let slot = this.slots.find((s) => s.worker && !s.running) ?? this.slots.find((s) => !s.worker && !s.running);
+      if (!slot && this.slots.length < this.maxWorkers) {
+        slot = { worker: undefined, running: undefined, flag: new Int32Array(new SharedArrayBuffer(4)), threadId: -1 };
+        this.slots.push(slot);
+      }
+      if (!slot) return;
+      const next = this.queue.shift()!;
+      slot.running = { id: next.id, job: next.job, pending: next };
+      this.counters.jobsStarted++;
+      this.ensureWorker(slot).postMessage({ id: next.id, job: next.job });
+    }
   }
 
-  private finish(r: Running): void {
+  private finish(slot: Slot, r: Running): void {
     clearTimeout(r.watchdog);
-    if (this.running === r) this.running = undefined;
+    if (slot.running === r) slot.running = undefined;
   }
 
-  private ensureWorker(): Worker {
-    if (this.worker) return this.worker;
-    const w = new Worker(this.script, { workerData: { cancel: this.flag } satisfies WorkerData });
+  private ensureWorker(slot: Slot): Worker {
+    if (slot.worker) return slot.worker;
+    const w = new Worker(this.script, { workerData: { cancel: slot.flag } satisfies WorkerData });
     w.unref();
     this.counters.workerStarts++;
-    this.counters.workerThreadId = w.threadId;
+    slot.threadId = w.threadId;
     this.events.onStart?.(this.counters.workerStarts, w.threadId);
     w.on('message', (reply: WorkerReply) => {
-      const r = this.running;
-      if (!r || r.id !== reply.id || this.worker !== w) return;
+      const r = slot.running;
+      if (!r || r.id !== reply.id || slot.worker !== w) return;
       if (reply.kind === 'progress') {
         if (r.pending) this.events.onIndex?.(r.job.uri, reply.done, reply.total);
         return;
       }
-      this.counters.modelsBuilt = reply.counters.modelsBuilt;
-      this.counters.modelHits = reply.counters.modelHits;
-      this.finish(r);
+      this.models.set(w.threadId, { built: reply.counters.modelsBuilt, hits: reply.counters.modelHits });
+      this.finish(slot, r);
       const p = r.pending;
       if (p) {
         if (reply.kind === 'done') {
@@ -159,39 +194,44 @@ export class WorkerEngine implements AnalysisEngine {
       // 'error' is followed by 'exit'; the first of the two tells.
       if (dead) return;
       dead = true;
-      if (this.worker === w) this.worker = undefined;
+      if (slot.worker === w) slot.worker = undefined;
       if (this.terminating.has(w)) return;
       this.events.onCrash?.(reason);
-      const r = this.running;
-      if (r) this.finish(r);
+      const r = slot.running;
+      if (r) this.finish(slot, r);
       r?.pending?.reject(new Error(`the analysis worker stopped: ${reason}`));
       this.pump();
     };
     w.on('error', (e) => died(e instanceof Error ? e.message : String(e)));
     w.on('exit', (code) => died(`exit code ${code}`));
-    this.worker = w;
+    slot.worker = w;
     return w;
   }
 
-  private stopWorker(): void {
-    const w = this.worker;
+  private stopWorker(slot: Slot): void {
+    const w = slot.worker;
     if (!w) return;
-    this.worker = undefined;
+    slot.worker = undefined;
     this.terminating.add(w);
     void w.terminate();
   }
 
   async dispose(): Promise<void> {
     this.disposed = true;
-    const r = this.running;
-    if (r) this.finish(r);
-    const all = [...this.queue.splice(0), ...(r?.pending ? [r.pending] : [])];
-    for (const p of all) p.reject(new Error('analysis engine disposed'));
-    const w = this.worker;
-    this.worker = undefined;
-    if (w) {
-      this.terminating.add(w);
-      await w.terminate();
+    const pending: Pending[] = this.queue.splice(0);
+    const workers: Worker[] = [];
+    for (const s of this.slots) {
+      if (s.running) {
+        if (s.running.pending) pending.push(s.running.pending);
+        this.finish(s, s.running);
+      }
+      if (s.worker) {
+        this.terminating.add(s.worker);
+        workers.push(s.worker);
+        s.worker = undefined;
+      }
     }
+    for (const p of pending) p.reject(new Error('analysis engine disposed'));
+    await Promise.all(workers.map((w) => w.terminate()));
   }
 }
