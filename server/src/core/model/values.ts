@@ -200,17 +200,40 @@ export function accessesOfStatement(s: Stmt): ArrayAccess[] {
   return out;
 }
 
-/** Children statements of a statement, in source order. */
-/** Statements from the procedure's body down to `target` (excluded), empty when not found. */
+/**
+ * Statements from the procedure's body down to `target` (excluded), empty when not found. Read
+ * through a parent index built once per body (statements are not changed after the front end),
+ * so finding the chain of every nest of a procedure costs one walk of it, not one walk per nest.
+ */
 export function pathTo(stmts: readonly Stmt[], target: Stmt): Stmt[] {
-  for (const s of stmts) {
-    if (s === target) return [];
-    const inner = pathTo(childStatements(s), target);
-    if (inner.length > 0 || childStatements(s).includes(target)) return [s, ...inner];
+  let parents = parentIndex.get(stmts);
+  if (!parents || !parents.has(target)) {
+    // Not indexed yet, or not found: (re)index, in case the list changed since.
+    parents = indexParents(stmts);
+    parentIndex.set(stmts, parents);
   }
-  return [];
+  const out: Stmt[] = [];
+  for (let p = parents.get(target); p; p = parents.get(p)) out.push(p);
+  return out.reverse();
 }
 
+/** Each statement's enclosing statement (null at the top), at its first place in a depth-first walk. */
+const parentIndex = new WeakMap<readonly Stmt[], Map<Stmt, Stmt | null>>();
+
+function indexParents(stmts: readonly Stmt[]): Map<Stmt, Stmt | null> {
+  const parents = new Map<Stmt, Stmt | null>();
+  const rec = (list: readonly Stmt[], parent: Stmt | null): void => {
+    for (const s of list) {
+      if (parents.has(s)) continue;
+      parents.set(s, parent);
+      rec(childStatements(s), s);
+    }
+  };
+  rec(stmts, null);
+  return parents;
+}
+
+/** Children statements of a statement, in source order. */
 export function childStatements(s: Stmt): Stmt[] {
   switch (s.kind) {
     case 'loop':
