@@ -106,7 +106,7 @@ export function dataLedger(
       });
       const transfers = run.transfers.map(asReport);
       const perStep = (dir: 'toDevice' | 'toHost'): Quantity => perStepQuantity(run.transfers.filter((t) => t.direction === dir), bindings);
-      const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit'));
+      const onceRecs = interp.outside.filter((t) => [...run.liveAtEntry.values()].includes(t.allocation) && (t.cause === 'enter' || t.cause === 'exit' || t.cause === 'update'));
       const once = (dir: 'toDevice' | 'toHost'): Quantity => quantity(S.add(S.num(0), ...onceRecs.filter((t) => t.direction === dir).map((t) => t.bytes)), bindings);
       const dataRegion = suggestDataRegion(run, model, text, familyIn(run.loop, family), (k) => interp.infoOf(k));
       const ledger: TimeLoopLedger = {
