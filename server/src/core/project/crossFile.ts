@@ -46,7 +46,10 @@ export function linkAcrossFiles(
         const call = t.via[0];
         if (!t.origin || !call) continue;
         const at = t.at ?? t.range;
-        const finding = a.findings.find((f) => TRANSFER_CODES.has(f.code) && f.array === t.array && same(f.range, call));
+        // Several directives reached through one call give several findings at that call: each
+        // transfer belongs to the one whose message names its directive's line.
+        const atCall = a.findings.filter((f) => TRANSFER_CODES.has(f.code) && f.array === t.array && same(f.range, call));
+        const finding = atCall.find((f) => f.message.includes(`, line ${t.range.start.line + 1}, reached from this call`)) ?? (atCall.length === 1 ? atCall[0] : undefined);
         if (!finding) continue;
         relate(finding, { path: t.origin, range: at, message: `the directive that moves \`${t.array}\` (${relativeToFile(a.path, t.origin)}, line ${at.start.line + 1})` });
         const callee = byPath.get(t.origin);
