@@ -19,6 +19,9 @@ export interface SchedulerHooks {
   onBusyChange?(busy: boolean): void;
 }
 
+/** Edits closer than this are typing (see schedule). */
+const TYPING_GAP_MS = 400;
+
 interface Waiter {
   version: number;
   resolve: (v: DocumentView | undefined) => void;
@@ -30,6 +33,7 @@ export class Scheduler {
   private readonly waiters = new Map<string, Waiter[]>();
   private inFlight = 0;
   private readonly running = new Map<string, number>();
+  private readonly lastEdit = new Map<string, number>();
   /** The last analysis of each open document, keyed by its inputs. */
   readonly cache = new ViewCache();
 
@@ -44,7 +48,16 @@ export class Scheduler {
    * job is sent after the debounce).
    */
   schedule(uri: string, delayMs: number, edited = false): void {
-    if (edited) this.engine.cancel?.(uri);
+    if (edited) {
+      this.engine.cancel?.(uri);
+      // While the user is typing (edits closer than TYPING_GAP_MS), wait one and a half gaps: an
+      // analysis started between two keystrokes would be stale before it ends and would hold a
+      // worker until its document step is done. A single edit after a pause waits `delayMs`.
+      const now = Date.now();
+      const gap = now - (this.lastEdit.get(uri) ?? -Infinity);
+      this.lastEdit.set(uri, now);
+      if (gap < TYPING_GAP_MS) delayMs = Math.max(delayMs, Math.min(Math.round(gap * 1.5), TYPING_GAP_MS));
+    }
     clearTimeout(this.timers.get(uri));
     this.timers.set(
       uri,
@@ -60,6 +73,7 @@ export class Scheduler {
     this.timers.delete(uri);
     this.views.delete(uri);
     this.cache.delete(uri);
+    this.lastEdit.delete(uri);
     for (const w of this.waiters.get(uri) ?? []) w.resolve(undefined);
     this.waiters.delete(uri);
   }

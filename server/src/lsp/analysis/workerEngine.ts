@@ -87,6 +87,8 @@ export class WorkerEngine implements AnalysisEngine {
   }
 
   cancel(uri: string): void {
+    for (const p of this.queue.filter((q) => q.job.uri === uri)) p.reject(new Superseded(p.job.uri, p.job.version));
+    this.queue = this.queue.filter((q) => q.job.uri !== uri);
     const live = this.slots.find((s) => s.running?.pending && s.running.job.uri === uri);
     if (live) this.markStale(live);
   }
