@@ -173,7 +173,7 @@ class NestContext {
 
   private declaredWithin(name: string, loop: Stmt): boolean {
     const lower = this.fortran ? name.toLowerCase() : name;
-    return this.nest.procedure.locals.some((l) => (this.fortran ? l.name.toLowerCase() : l.name) === lower && rangeWithin(l.range, loop.range));
+    return (localsByName(this.nest.procedure.locals, this.fortran).get(lower) ?? []).some((l) => rangeWithin(l.range, loop.range));
   }
 
   /** Statements of the nest with the chain of statements from the root down to each. */
@@ -627,4 +627,26 @@ export function privateFix(d: Directive, name: string, model: ProgramModel): Fix
     title: `Add private(${name}) to this ${d.family === 'openacc' ? 'OpenACC' : 'OpenMP'} directive`,
     edits: [{ range: { start: d.range.end, end: d.range.end }, newText: text }],
   };
+}
+
+/**
+ * Every local of a procedure by name (Fortran names in lower case), built once per list of
+ * locals: a scan of all locals for every write made the check quadratic in a long procedure.
+ * Several locals may share a name (scopes are flattened), so each name keeps all of them.
+ */
+const localIndex = new WeakMap<readonly Declaration[], { length: number; fortran: boolean; map: Map<string, Declaration[]> }>();
+function localsByName(locals: readonly Declaration[], fortran: boolean): ReadonlyMap<string, Declaration[]> {
+  let ix = localIndex.get(locals);
+  if (!ix || ix.length !== locals.length || ix.fortran !== fortran) {
+    const map = new Map<string, Declaration[]>();
+    for (const l of locals) {
+      const key = fortran ? l.name.toLowerCase() : l.name;
+      const list = map.get(key);
+      if (list) list.push(l);
+      else map.set(key, [l]);
+    }
+    ix = { length: locals.length, fortran, map };
+    localIndex.set(locals, ix);
+  }
+  return ix.map;
 }
