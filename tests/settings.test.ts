@@ -56,7 +56,7 @@ describe('reading settings', () => {
   it('a bad value warns, names the key and falls back to the default', () => {
     const r = readSettings({ profile: 42, debounceMs: -5, baseline: 3 });
     expect(r.settings.profile).toBe(DEFAULT_PROFILE);
-    expect(r.settings.debounceMs).toBe(300);
+    expect(r.settings.debounceMs).toBe(100);
     expect(r.settings.baseline).toBe('auto');
     expect(r.warnings).toHaveLength(3);
     expect(r.warnings[0]).toMatch(/offloadLedger\.profile: .*using the default "pcie4-hbm2e"/);
