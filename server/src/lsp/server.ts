@@ -219,13 +219,21 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     if (caps.inlayHintRefresh) void connection.languages.inlayHint.refresh().catch(() => undefined);
   });
 
-  documents.onDidOpen((e) => scheduler.schedule(e.document.uri, 0));
+  // TextDocuments reports an open as a content change too: that one is no edit (it must not make
+  // the open's analysis stale nor count as a keystroke).
+  const opened = new Map<string, number>();
+  documents.onDidOpen((e) => {
+    opened.set(e.document.uri, e.document.version);
+    scheduler.schedule(e.document.uri, 0);
+  });
   documents.onDidChangeContent(async (e) => {
     if (e.document.version === scheduler.latest(e.document.uri)?.version) return;
+    if (opened.get(e.document.uri) === e.document.version) return;
     const s = await config.forDocument(e.document.uri);
     scheduler.schedule(e.document.uri, s.debounceMs, true);
   });
   documents.onDidClose((e) => {
+    opened.delete(e.document.uri);
     scheduler.forget(e.document.uri);
     void connection.sendDiagnostics({ uri: e.document.uri, diagnostics: [] });
   });
