@@ -245,7 +245,8 @@ describe('modules defined in other files of the check', () => {
     const tl = driver.timeLoops[0] as TimeLoop & { once: { toDevice: Quantity } };
     // OpenACC 3.3 §2.13: the copy is made when the program starts, 2 × 1000 × 4 bytes (hand count),
     // not per step, and smooth's own `use fields` copies nothing again (no already-present note).
-    expect(tl.once.toDevice.value).toBe(8000);
+    // "Once" also counts the `update device(a, b)` before the loop: another 8,000 bytes.
+    expect(tl.once.toDevice.value).toBe(16000);
     expect(tl.perStep.toDevice.value).toBe(0); // as with `declare create` above (hand count)
     expect(codes(driver)).not.toContain('already-present');
   });
