@@ -182,9 +182,7 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
     const how = dirs.size === 2 ? 'copied to the device and back' : dirs.has('toDevice') ? 'copied to the device' : 'copied back to the host';
     const every = t0.everySteps === 1 ? 'every time step' : `every ${t0.everySteps} steps`;
     const sizeText = size !== null ? ` (${S.formatBytes(size)})` : '';
-    const amounts = perStep !== undefined
-      ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
-      : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
+    const amounts = amountsText(perStepExpr, perStep, steps);
     const via = t0.origin
       ? ` (the directive is in ${relativeToFile(path, t0.origin)}, line ${t0.range.start.line + 1}, reached from this call)`
       : t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
@@ -238,6 +236,13 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
   return [...out.slice(0, at), grouped, ...out.slice(at).filter((f) => !members.has(f))];
 }
 
+/** Bytes per step and over the run as messages say them; the expression when a size is unbound. */
+function amountsText(perStepExpr: S.Expr, perStep: number | undefined, steps: number | null): string {
+  return perStep !== undefined
+    ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
+    : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
+}
+
 /** The implicit data rules of each model, cited in its own standard. */
 const IMPLICIT_RULE: Record<DirectiveFamily, string> = {
   openacc: 'OpenACC 3.3 §2.6.2: arrays are copied',
@@ -267,9 +272,7 @@ function missingRegionFinding(rs: Residentable[], l: TimeLoopLedger, bindings: R
   const perStepExpr = S.add(...rs.flatMap((r) => r.ts.map((t) => S.div(t.bytesExpr, S.num(t.everySteps)))));
   const perStep = S.evaluate(perStepExpr, bindings);
   const steps = l.steps.value;
-  const amounts = perStep !== undefined
-    ? `${S.formatBytes(perStep)} per step${steps !== null ? `, ${S.formatBytes(perStep * steps)} over ${steps.toLocaleString('en-US')} steps` : ''}`
-    : `${S.toString(perStepExpr)} bytes per step (bind its sizes for a number)`;
+  const amounts = amountsText(perStepExpr, perStep, steps);
   // Constructs all reached through one call: say so once, in the message; otherwise per construct.
   const sameVia = rs.every((r) => r.via === rs[0].via) ? rs[0].via : '';
   const constructs = new Map<number, { range: Range; every: string; via: string; parts: string[] }>();
