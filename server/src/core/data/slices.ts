@@ -8,7 +8,7 @@ import * as S from '../symbolic';
 import type { SourceLanguage } from '../types';
 import type { ArrayInfo } from './arrays';
 import type { HostTouch } from './interpreter';
-import { type Box, type Region, bounding, exactBoxes } from './regions';
+import { type Box, type Region, bounding, boxSize, exactBoxes } from './regions';
 
 const src = (e: S.Expr, lang: SourceLanguage): string => S.toSource(e, lang === 'fortran' ? 'fortran' : 'c');
 
@@ -84,21 +84,19 @@ function contiguous(ranges: { lo: S.Expr; len: S.Expr }[], dims: readonly S.Expr
 export function regionSectionText(region: Region, name: string, info: ArrayInfo, lang: SourceLanguage): string {
   if (region.length === 0) return name;
   const b = bounding(region);
-  const { strides, extents } = info.shape;
+  const { extents } = info.shape;
   const whole = b.lo.every((v) => v === 0) && b.hi.every((v, d) => v === extents[d] - 1) && !info.shapeApproximate;
   if (whole) return wholeSectionText(name, info, lang) ?? name;
   if (lang === 'fortran') {
     const lowers = info.decl?.lowerBounds?.map((l) => S.constValue(l) ?? 1) ?? [];
     return `${name}(${b.lo.map((lo, d) => `${lo + (lowers[d] ?? 1)}:${b.hi[d] + (lowers[d] ?? 1)}`).join(', ')})`;
   }
-  const multi = info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1;
-  if (multi) {
+  if (isCArray(info)) {
     const written = [...b.lo.keys()].reverse().map((d) => ({ lo: S.num(b.lo[d]), len: S.num(b.hi[d] - b.lo[d] + 1) }));
     return `${name}${contiguous(written, [...extents].reverse().map((e) => S.num(e))).map((r) => `[${src(r.lo, lang)}:${src(r.len, lang)}]`).join('')}`;
   }
-  const start = b.lo.reduce((n, v, d) => n + v * strides[d], 0);
-  const end = b.hi.reduce((n, v, d) => n + v * strides[d], 0);
-  return `${name}[${start}:${end - start + 1}]`;
+  const start = offsetOf(b.lo, info);
+  return `${name}[${start}:${offsetOf(b.hi, info) - start + 1}]`;
 }
 
 /** At most this many sections in one narrowed update; beyond it one bounding section is shorter to read. */
@@ -110,17 +108,20 @@ const MAX_SECTIONS = 8;
  * more than one index (contiguity, see `contiguous`); a linearised pointer moves one contiguous range.
  */
 export function sectionElements(b: Box, info: ArrayInfo, lang: SourceLanguage): number {
-  const { strides, extents } = info.shape;
-  if (lang === 'fortran') return b.lo.reduce((n, lo, d) => n * (b.hi[d] - lo + 1), 1);
-  const multi = info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1;
-  if (multi) {
-    const dims = [...b.lo.keys()].reverse();
-    const first = dims.findIndex((d) => b.hi[d] !== b.lo[d]);
-    return dims.reduce((n, d, k) => n * (first >= 0 && k > first ? extents[d] : b.hi[d] - b.lo[d] + 1), 1);
-  }
-  const start = b.lo.reduce((n, v, d) => n + v * strides[d], 0);
-  const end = b.hi.reduce((n, v, d) => n + v * strides[d], 0);
-  return end - start + 1;
+  if (lang === 'fortran') return boxSize(b);
+  if (isCArray(info)) return boxSize(widenedBox(b, info.shape.extents));
+  return offsetOf(b.hi, info) - offsetOf(b.lo, info) + 1;
+}
+
+/** A C array declared with all its dimensions (not a pointer): its sections are written per dimension. */
+function isCArray(info: ArrayInfo): boolean {
+  const { extents } = info.shape;
+  return !!info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1;
+}
+
+/** The linear element offset of an index tuple (contiguous dimension first). */
+function offsetOf(index: readonly number[], info: ArrayInfo): number {
+  return index.reduce((n, v, d) => n + v * info.shape.strides[d], 0);
 }
 
 /**
@@ -130,16 +131,14 @@ export function sectionElements(b: Box, info: ArrayInfo, lang: SourceLanguage): 
  */
 export function regionSections(region: Region, name: string, info: ArrayInfo, lang: SourceLanguage): { texts: string[]; elements: number } {
   let boxes = exactBoxes(region);
-  const { extents } = info.shape;
-  if (lang !== 'fortran' && info.decl && info.decl.dims.length === extents.length && !info.decl.isPointer && extents.length > 1) {
+  if (lang !== 'fortran' && isCArray(info)) {
     // C sections of a multi-dimensional array take whole rows inside their first wide dimension;
     // widen first so that two sections never overlap (the same element moved twice).
-    boxes = exactBoxes(boxes.map((b) => widenedBox(b, extents)));
+    boxes = exactBoxes(boxes.map((b) => widenedBox(b, info.shape.extents)));
   }
   if (boxes.length === 0) return { texts: [name], elements: 0 };
   if (boxes.length > MAX_SECTIONS) return { texts: [regionSectionText(region, name, info, lang)], elements: sectionElements(bounding(region), info, lang) };
-  const start = (b: Box): number => b.lo.reduce((n, v, d) => n + v * info.shape.strides[d], 0);
-  boxes.sort((a, b) => start(a) - start(b));
+  boxes.sort((a, b) => offsetOf(a.lo, info) - offsetOf(b.lo, info));
   return {
     texts: boxes.map((b) => regionSectionText([b], name, info, lang)),
     elements: boxes.reduce((n, b) => n + sectionElements(b, info, lang), 0),
