@@ -360,7 +360,16 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       }
       return b;
     };
-    const scan = scanLoops(model, { timeLoopVariables: options.timeLoopVariables });
+    // The file's own procedures first. The other files' loops matter only when a time loop here
+    // may run them (their nests are costed for its step); without one they are not scanned, so a
+    // file of a large workspace costs its own size, not the project's.
+    const scan = scanLoops(model, { timeLoopVariables: options.timeLoopVariables, only: (p) => !p.origin });
+    if ((scan.timeLoops.length > 0 || options.programRun) && model.procedures.some((p) => p.origin)) {
+      const rest = scanLoops(model, { timeLoopVariables: options.timeLoopVariables, only: (p) => !!p.origin });
+      scan.nests.push(...rest.nests);
+      scan.timeLoops.push(...rest.timeLoops);
+      scan.rejected.push(...rest.rejected);
+    }
     result.notTimeLoops = scan.rejected.filter((r) => !r.procedure.origin);
     // Nests of other files are costed too (a time loop here may run them) but reported there.
     const external = result.externalNests;

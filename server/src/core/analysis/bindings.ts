@@ -6,7 +6,7 @@
 import * as S from '../symbolic';
 import type { Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { forEachCallInValue, toSymbolic, valuesOfStatement, walkStatements } from '../model/values';
-import { calleesOf } from '../model/callees';
+import { bodyCalls, calleesOf, type BodyCall } from '../model/callees';
 import { legacyTripSymbols } from '../model/stepCounters';
 
 export type BindingMap = Map<string, S.Expr>;
@@ -49,29 +49,35 @@ export function userKeys(model: Pick<ProgramModel, 'language'>, key: string): st
  * value (after the caller's own bindings). A parameter passed different values stays symbolic:
  * a single number would be wrong for some of the calls.
  */
+/** A call's arguments as symbolic forms, made once per call (the call belongs to a body kept per model). */
+const argForms = new WeakMap<BodyCall, (S.Expr | undefined)[]>();
+function symbolicArgs(c: BodyCall): (S.Expr | undefined)[] {
+  let v = argForms.get(c);
+  if (!v) argForms.set(c, (v = c.args.map((a) => toSymbolic(a))));
+  return v;
+}
+
 export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
   const callees = calleesOf(model);
   // One walk collects every call with its arguments as symbolic forms.
   const calls: { caller: Procedure; callee: Procedure; values: (S.Expr | undefined)[] }[] = [];
   for (const caller of model.procedures) {
-    const record = (called: string, args: VExpr[]): void => {
-      const callee = callees.resolve(called);
-      if (!callee || callee === caller) return;
-      calls.push({ caller, callee, values: args.map((a) => toSymbolic(a)) });
-    };
-    walkStatements(caller.body, (s: Stmt) => {
-      if (s.kind === 'call') record(s.name, s.args);
-      // Calls inside expressions (`printf("%g", total(f, N))`) bind parameters too.
-      for (const v of valuesOfStatement(s)) forEachCallInValue(v, (c) => record(c.name, c.args));
-    });
+    // The calls of each body are found once per body (shared by every file of a workspace).
+    for (const c of bodyCalls(caller.body).calls) {
+      const callee = callees.resolve(c.name);
+      if (!callee || callee === caller) continue;
+      calls.push({ caller, callee, values: symbolicArgs(c) });
+    }
   }
   // Values flow down call chains (main's nx = 256 → run(nx) → sweep(nx)): each round substitutes
   // the callers' bindings of the previous round, until nothing changes (a few rounds at most).
   let out = new Map<string, BindingMap>();
   for (let round = 0; round < MAX_CHAIN; round++) {
     const seen = new Map<Procedure, (S.Expr | undefined)[][]>();
+    const locals = new Map<Procedure, BindingMap>();
     for (const c of calls) {
-      const local: BindingMap = new Map([...model.bindings, ...(out.get(c.caller.name) ?? []), ...c.caller.bindings]);
+      let local = locals.get(c.caller);
+      if (!local) locals.set(c.caller, (local = new Map([...model.bindings, ...(out.get(c.caller.name) ?? []), ...c.caller.bindings])));
       const list = seen.get(c.callee) ?? [];
       list.push(c.values.map((e) => (e ? S.substitute(e, local) : undefined)));
       seen.set(c.callee, list);

@@ -16,7 +16,7 @@ import type { Directive } from '../types';
 import type { LoopStmt, Procedure, ProgramModel, Stmt } from '../model/program';
 import { isDataConstruct, isLoopDirective, isOffloadCompute } from '../model/directives';
 import { accessesOfStatement, childStatements, walkStatements } from '../model/values';
-import { calleesOf } from '../model/callees';
+import { bodyCalls, calleesOf } from '../model/callees';
 import { LoopJudge } from './timeLoops';
 
 export interface LoopNest {
@@ -64,6 +64,8 @@ export interface NestScan {
 export interface ScanOptions {
   /** Loop variables the user names as time-loop variables (`--time-loop iter`). */
   timeLoopVariables?: readonly string[];
+  /** Only these procedures' loops are scanned (the verdicts of the others' are not needed). */
+  only?: (p: Procedure) => boolean;
 }
 
 /**
@@ -83,6 +85,7 @@ export function scanLoops(model: ProgramModel, options: ScanOptions = {}): NestS
   const named = new Set((options.timeLoopVariables ?? []).map((v) => (fortran ? v.toLowerCase() : v)));
   const out: NestScan = { nests: [], timeLoops: [], rejected: [] };
   for (const proc of model.procedures) {
+    if (options.only && !options.only(proc)) continue;
     const holdsTimeLoop = (stmts: Stmt[]): boolean =>
       directLoops(stmts).some((l) => {
         if (l.directives.some(isOffloadCompute)) return false;
@@ -221,17 +224,18 @@ function indexesNestedArrays(loop: LoopStmt): boolean {
 }
 
 /** Procedures that contain a loop, directly or through calls (fixpoint over the call graph). */
+const withLoopsCache = new WeakMap<ProgramModel, Set<string>>();
 function proceduresWithLoops(model: ProgramModel): Set<string> {
+  const cached = withLoopsCache.get(model);
+  if (cached) return cached;
   const out = new Set<string>();
+  withLoopsCache.set(model, out);
   const calls = new Map<string, string[]>();
   const resolve = calleesOf(model);
   for (const p of model.procedures) {
-    const callees: string[] = [];
-    walkStatements(p.body, (s) => {
-      if (s.kind === 'loop') out.add(p.name);
-      if (s.kind === 'call') callees.push(resolve.resolve(s.name)?.name ?? s.name);
-    });
-    calls.set(p.name, callees);
+    const b = bodyCalls(p.body);
+    if (b.hasLoop) out.add(p.name);
+    calls.set(p.name, b.calls.filter((c) => c.statement).map((c) => resolve.resolve(c.name)?.name ?? c.name));
   }
   let changed = true;
   while (changed) {

@@ -4,7 +4,8 @@
  * `Wave::step`), so a call also matches the one procedure whose last name component equals the
  * call's, when exactly one does.
  */
-import type { Procedure, ProgramModel } from './program';
+import type { Procedure, ProgramModel, Stmt, VExpr } from './program';
+import { forEachCallInValue, valuesOfStatement, walkStatements } from './values';
 
 const lastPart = (name: string): string => name.split(/::|\.|->/).pop() ?? name;
 
@@ -36,4 +37,41 @@ export function calleesOf(model: ProgramModel): Callees {
     cache.set(model, c);
   }
   return c;
+}
+
+/** One call made by a body: a call statement's, or one inside an expression (`total(f, N)`). */
+export interface BodyCall {
+  name: string;
+  args: VExpr[];
+  /** True for a call statement (`call step(u)`, `step(u);`), false for a call inside a value. */
+  statement: boolean;
+}
+
+export interface BodyCalls {
+  /** The body holds a loop (at any depth). */
+  hasLoop: boolean;
+  /** Every call, in the order a walk of the body meets them (a statement's own call first). */
+  calls: BodyCall[];
+}
+
+const bodies = new WeakMap<readonly Stmt[], BodyCalls>();
+
+/**
+ * The calls a procedure body makes and whether it holds a loop, found by one walk and kept per
+ * body. A workspace's files share the procedure bodies of the other files (their models are
+ * built once), so each file's analysis reads these instead of walking the whole project again.
+ */
+export function bodyCalls(body: readonly Stmt[]): BodyCalls {
+  let b = bodies.get(body);
+  if (!b) {
+    const out: BodyCalls = { hasLoop: false, calls: [] };
+    walkStatements(body, (s) => {
+      if (s.kind === 'loop') out.hasLoop = true;
+      if (s.kind === 'call') out.calls.push({ name: s.name, args: s.args, statement: true });
+      for (const v of valuesOfStatement(s)) forEachCallInValue(v, (c) => out.calls.push({ name: c.name, args: c.args, statement: false }));
+    });
+    b = out;
+    bodies.set(body, b);
+  }
+  return b;
 }

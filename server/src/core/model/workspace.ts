@@ -15,7 +15,7 @@
  */
 import type { Expr } from '../symbolic';
 import type { Directive } from '../types';
-import type { Declaration, ElementType, ProgramModel } from './program';
+import type { Declaration, ElementType, Procedure, ProgramModel } from './program';
 
 /** What a named unit (a Fortran module) makes visible to the files that use it. */
 export interface ModuleExports {
@@ -137,6 +137,18 @@ export function ownModelInWorkspace(model: ProgramModel, others: readonly Progra
   return resolve(model, indexFor(model, others), new Set());
 }
 
+/**
+ * Another file's procedures as a workspace shows them: marked with their file, each carrying that
+ * file's constants. Made once per model and shared by every file that sees it (never changed
+ * after), so each file's view of the workspace costs a list of references, not copies.
+ */
+const originCopies = new WeakMap<ProgramModel, Procedure[]>();
+function asOrigin(other: ProgramModel): Procedure[] {
+  let list = originCopies.get(other);
+  if (!list) originCopies.set(other, (list = other.procedures.map((p) => ({ ...p, origin: other.path, bindings: new Map([...other.bindings, ...p.bindings]) }))));
+  return list;
+}
+
 export function withWorkspace(model: ProgramModel, others: readonly ProgramModel[]): ProgramModel {
   const index = indexFor(model, others);
   const self = resolve(model, index, new Set());
@@ -146,10 +158,10 @@ export function withWorkspace(model: ProgramModel, others: readonly ProgramModel
   for (const original of others) {
     if (original.path === model.path || family(original.language) !== family(model.language)) continue;
     const other = resolve(original, index, new Set());
-    for (const p of other.procedures) {
+    for (const p of asOrigin(other)) {
       if (own.has(p.name)) continue;
       own.add(p.name);
-      merged.procedures.push({ ...p, origin: other.path, bindings: new Map([...other.bindings, ...p.bindings]) });
+      merged.procedures.push(p);
     }
     for (const g of other.globals) {
       if (globals.has(g.name)) continue;
