@@ -91,6 +91,12 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     onIndex: (uri, done, total) => {
       if (!checking) projectStatus({ state: 'indexing', done, total, files: known.size, scope: uri });
     },
+    // The first diagnostics of a document while the rest of its project is modelled; the job's
+    // own view replaces them (hovers and fixes wait for that one).
+    onEarly: (view) => {
+      if (documents.get(view.uri)?.version !== view.version || scheduler.latest(view.uri)?.version === view.version) return;
+      void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });
+    },
   });
   /** The last analysis of each file of a workspace check that is not open (same inputs: not analysed again). */
   const checkCache = new ViewCache(4096);

@@ -20,6 +20,11 @@ export interface EngineEvents {
   onStart?: (n: number, threadId: number) => void;
   /** Models of the document's project files are being built: `done` of `total` files ready. */
   onIndex?: (uri: string, done: number, total: number) => void;
+  /**
+   * A first view of a job whose project files are still being modelled (runJob's `early`): the
+   * files the document reaches by name are in it; the job's own view follows and replaces it.
+   */
+  onEarly?: (view: DocumentView) => void;
 }
 
 export interface AnalysisEngine {

@@ -50,7 +50,7 @@ export class InProcessEngine implements AnalysisEngine {
         const job = next.job;
         try {
           this.counters.jobsStarted++;
-          next.resolve(runJob(job, deps, { progress: (done, total) => this.events.onIndex?.(job.uri, done, total) }));
+          next.resolve(runJob(job, deps, { progress: (done, total) => this.events.onIndex?.(job.uri, done, total), early: this.events.onEarly }));
           this.counters.jobsCompleted++;
         } catch (e) {
           next.reject(e);

@@ -3,7 +3,9 @@
  * the view need. It is plain data, so it crosses to the analysis worker by structured clone.
  */
 import { performance } from 'node:perf_hooks';
-import { analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions } from '../../core/analyze';
+import { analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions, type FileAnalysis } from '../../core/analyze';
+import { linkAcrossFiles } from '../../core/project/crossFile';
+import { filesNeeded, lexiconOf, type Lexicon } from '../../core/project/lexicon';
 import type { ProgramModel } from '../../core/model/program';
 import type { NeighbourSource } from './neighbours';
 import { readHeader } from '../../host/files';
@@ -48,6 +50,11 @@ export interface JobHooks {
   cancelled?(): boolean;
   /** Models of the project's files: `done` of `total` ready (sent only when some must be built). */
   progress?(done: number, total: number): void;
+  /**
+   * A first view while the models of files the document does not reach are still being built
+   * (the final view follows). Only asked for by engines that can deliver it.
+   */
+  early?(view: DocumentView): void;
 }
 
 /** Counters of the model cache below (per thread), for the debug request. */
@@ -64,33 +71,60 @@ function checkCancelled(hooks: JobHooks | undefined): void {
   if (hooks?.cancelled?.()) throw new Cancelled();
 }
 
-function workspaceOf(job: AnalysisJob, deps: AnalyzeDeps, hooks?: JobHooks): ProgramModel[] | undefined {
-  if (!job.neighbours || job.neighbours.length === 0) return undefined;
-  const keyed = job.neighbours.map((n) => {
-    const pp = n.preprocess ?? job.preprocess;
-    const flags = JSON.stringify([pp ?? null, job.bindings, job.timeLoopVariables ?? null, n.language]);
-    const hit = neighbourModels.get(n.path);
-    return { n, pp, flags, hit: hit && hit.flags === flags && hit.text === n.text ? hit : undefined };
-  });
-  const total = keyed.length + 1;
-  let done = keyed.filter((k) => k.hit).length;
-  const missing = keyed.length - done;
-  if (missing > 0) hooks?.progress?.(done, total);
-  return keyed.map(({ n, pp, flags, hit }) => {
+type Neighbour = NonNullable<AnalysisJob['neighbours']>[number];
+
+function flagsOf(job: AnalysisJob, n: Neighbour): string {
+  return JSON.stringify([n.preprocess ?? job.preprocess ?? null, job.bindings, job.timeLoopVariables ?? null, n.language]);
+}
+
+/** The warm model of a neighbour, when its text and flags are those of the cache. */
+function warmModel(job: AnalysisJob, n: Neighbour): ProgramModel | undefined {
+  const hit = neighbourModels.get(n.path);
+  return hit && hit.text === n.text && hit.flags === flagsOf(job, n) ? hit.model : undefined;
+}
+
+/** Models of `list` (warm ones from the cache), reporting progress against the project's `total` files. */
+function modelsOf(job: AnalysisJob, list: readonly Neighbour[], deps: AnalyzeDeps, total: number, hooks?: JobHooks): ProgramModel[] {
+  const all = job.neighbours ?? [];
+  let done = all.filter((n) => warmModel(job, n)).length;
+  if (list.some((n) => !warmModel(job, n))) hooks?.progress?.(done, total);
+  return list.map((n) => {
+    const hit = warmModel(job, n);
     if (hit) {
       modelCacheStats.hits++;
-      return hit.model;
+      return hit;
     }
     checkCancelled(hooks);
-    const model = buildModel({ path: n.path, language: n.language, text: n.text }, deps, analyzeOptions({ ...job, preprocess: pp }));
+    const model = buildModel({ path: n.path, language: n.language, text: n.text }, deps, analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }));
     if (!neighbourModels.has(n.path) && neighbourModels.size >= MAX_CACHED_MODELS) neighbourModels.delete(neighbourModels.keys().next().value!);
-    neighbourModels.set(n.path, { text: n.text, flags, model });
+    neighbourModels.set(n.path, { text: n.text, flags: flagsOf(job, n), model });
     modelCacheStats.built++;
     hooks?.progress?.(++done, total);
     return model;
   });
 }
 
+/** Lexicons of neighbour texts (per thread), read again only when a text changes. */
+const lexicons = new Map<string, { text: string; lexicon: Lexicon }>();
+function lexiconFor(path: string, text: string, language: AnalysisJob['language']): Lexicon {
+  const hit = lexicons.get(path);
+  if (hit && hit.text === text) return hit.lexicon;
+  const lexicon = lexiconOf(text, language, path);
+  if (!hit && lexicons.size >= MAX_CACHED_MODELS) lexicons.delete(lexicons.keys().next().value!);
+  lexicons.set(path, { text, lexicon });
+  return lexicon;
+}
+
+/**
+ * The neighbours a first answer needs: those whose names the document's chain of calls and uses
+ * reaches (down) or whose calls reach the document (up), by their lexicons, plus every one whose
+ * model is already warm. `up` tells whether any file calls into the document.
+ */
+export function firstNeighbours(job: AnalysisJob): { first: Neighbour[]; up: boolean } {
+  const all = job.neighbours ?? [];
+  const need = filesNeeded(lexiconFor(job.path, job.text, job.language), all.map((n) => ({ path: n.path, lexicon: lexiconFor(n.path, n.text, n.language) })));
+  return { first: all.filter((n) => need.down.has(n.path) || need.up.has(n.path) || warmModel(job, n)), up: need.up.size > 0 };
+}
 /** The core's options for a job: the user's size bindings, the machine profile and the baseline. */
 export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
   const pp = job.preprocess;
@@ -109,16 +143,34 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
   const t0 = performance.now();
   // Headers are read from disk in the worker, as the CLI reads them.
   const deps: AnalyzeDeps = { ...grammars, readInclude: readHeader };
-  const workspace = workspaceOf(job, deps, hooks);
+  const neighbours = job.neighbours ?? [];
+  const total = neighbours.length + 1;
+  const view = (analysis: FileAnalysis): DocumentView => buildView(
+    { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: performance.now() - t0 },
+    job.view,
+  );
+  // A first answer from the files the document reaches by name, when others still have no model:
+  // a large project's first diagnostics do not wait for every file. It is not given when a time
+  // loop here is entered from another file (its starting state needs that file's whole program).
+  if (hooks?.early && neighbours.some((n) => !warmModel(job, n))) {
+    const { first, up } = firstNeighbours(job);
+    if (first.length < neighbours.length) {
+      const ws = first.length > 0 ? modelsOf(job, first, deps, total, hooks) : undefined;
+      checkCancelled(hooks);
+      const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace: ws });
+      checkCancelled(hooks);
+      if (!(up && analysis.timeLoops.length > 0)) {
+        linkAcrossFiles([analysis], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path));
+        hooks.early(view(analysis));
+      }
+    }
+  }
+  const workspace = neighbours.length > 0 ? modelsOf(job, neighbours, deps, total, hooks) : undefined;
   checkCancelled(hooks);
   const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace });
   checkCancelled(hooks);
   // Findings that span two files: linked to the other end, and those of callers' time loops that land here.
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks));
   checkCancelled(hooks);
-  const ms = performance.now() - t0;
-  return buildView(
-    { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: ms },
-    job.view,
-  );
+  return view(analysis);
 }

@@ -179,6 +179,10 @@ export class WorkerEngine implements AnalysisEngine {
         if (r.pending) this.events.onIndex?.(r.job.uri, reply.done, reply.total);
         return;
       }
+      if (reply.kind === 'early') {
+        if (r.pending) this.events.onEarly?.(reply.view);
+        return;
+      }
       this.models.set(w.threadId, { built: reply.counters.modelsBuilt, hits: reply.counters.modelHits });
       this.finish(slot, r);
       const p = r.pending;

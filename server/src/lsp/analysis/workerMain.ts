@@ -31,7 +31,8 @@ export type WorkerReply =
   | { id: number; kind: 'done'; view: import('../view/types').DocumentView; counters: WorkerCounters }
   | { id: number; kind: 'failed'; error: string; counters: WorkerCounters }
   | { id: number; kind: 'cancelled'; counters: WorkerCounters }
-  | { id: number; kind: 'progress'; done: number; total: number };
+  | { id: number; kind: 'progress'; done: number; total: number }
+  | { id: number; kind: 'early'; view: import('../view/types').DocumentView };
 
 const port = parentPort;
 if (port) {
@@ -47,6 +48,7 @@ if (port) {
       const view = runJob(msg.job, deps, {
         cancelled: stale,
         progress: (done, total) => port.postMessage({ id: msg.id, kind: 'progress', done, total } satisfies WorkerReply),
+        early: (view) => port.postMessage({ id: msg.id, kind: 'early', view } satisfies WorkerReply),
       });
       reply = { id: msg.id, kind: 'done', view, counters: counters() };
     } catch (e) {
