@@ -165,12 +165,20 @@ describe('the first view of a document in a project', () => {
     };
   };
   /** Runs a job, counting the models built before its first view and in all. */
-  const run = (j: AnalysisJob): { early?: DocumentView; builtAtEarly?: number; final: DocumentView; built: number } => {
+  const run = (j: AnalysisJob): { early?: DocumentView; earlies: number; builtAtEarly?: number; final: DocumentView; built: number } => {
     const start = modelCacheStats.built;
     let early: DocumentView | undefined;
     let builtAtEarly: number | undefined;
-    const final = runJob(j, grammars, { early: (v) => { early = v; builtAtEarly = modelCacheStats.built - start; } });
-    return { early, builtAtEarly, final, built: modelCacheStats.built - start };
+    let earlies = 0;
+    const final = runJob(j, grammars, {
+      early: (v) => {
+        earlies++;
+        if (early) return;
+        early = v;
+        builtAtEarly = modelCacheStats.built - start;
+      },
+    });
+    return { early, earlies, builtAtEarly, final, built: modelCacheStats.built - start };
   };
   const codes = (v: DocumentView): string[] => v.diagnostics.map((d) => `${d.code}@${d.range.start.line + 1}`).sort();
 
@@ -209,9 +217,19 @@ describe('the first view of a document in a project', () => {
     expect(codes(r.final)).toContain(`transfer-in-time-loop@${KERNELS + 8}`);
   });
 
-  it('once the project is modelled there is one view: only the file that was the document before is built', () => {
+  it('once the project is modelled, the document\'s own findings come before its callers are analysed', () => {
     const r = run(job('k2.c'));
-    expect(r.early).toBeUndefined();
+    // Only the file that was the document before had no model; it is the caller, so nothing
+    // comes before it is built, and then the kernel's own view comes before the caller's analysis.
     expect(r.built).toBe(1);
+    expect(r.earlies).toBe(1);
+    expect(r.builtAtEarly).toBe(1);
+    expect(codes(r.early!)).toEqual(codes(r.final));
+  });
+
+  it('a file nothing calls and that calls nothing of the project: one view, no early one, once warm', () => {
+    const r = run(job('tool3.c'));
+    expect(r.earlies).toBe(0);
+    expect(r.built).toBe(0);
   });
 });

@@ -15,3 +15,5 @@ export function profileFromMachines(file: MachinesFile, name: string) {
 // The planning report (benchmarks render it for generated projects).
 export { buildPlanning, hasEstimates } from './lsp/view/planning';
 export { renderPlanning } from './planning/render';
+// The editor's analysis job (benchmarks time the first and final views of a project file).
+export { runJob, modelCacheStats } from './lsp/analysis/job';

@@ -16,6 +16,7 @@ import { loadGrammars } from '../grammars';
 import type { PortArgs } from './args';
 import { InputError, readHeader, readSource } from '../host/files';
 import { chooseProfile, readMachinesFile } from '../host/machines';
+import { DatabaseFlags } from '../host/compileDb';
 import { factor, seconds, spread } from './text';
 import { boundWords } from '../core/estimate/terms';
 
@@ -49,8 +50,12 @@ export async function runPort(args: PortArgs, out: (s: string) => void, err: (s:
   if (error) throw new InputError(`port refuses a file with syntax errors; the first: ${error}`);
   const profile = chooseProfile(readMachinesFile(args.machines), args.profile);
   const deps = { ...g, readInclude: readHeader };
+  // The file's own compilation database entry (the nearest compile_commands.json, or
+  // --compile-commands), under the user's flags, as `check` reads it.
+  const user = { defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives };
+  const flags = new DatabaseFlags(args.compileCommands, (line) => err(`offload-ledger: ${line}`)).settingsFor(source.path, user);
   const options = {
-    defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives,
+    ...flags,
     bindings: args.bindings, profile, baseline: args.baseline, timeLoopVariables: args.timeLoopVariables, portFamily: args.model, plans: false,
   };
   const analysis = analyzeSource(source, deps, options);

@@ -12,7 +12,7 @@ import { legacyTripSymbols } from '../model/stepCounters';
 export type BindingMap = Map<string, S.Expr>;
 
 /** Bindings visible inside one procedure. */
-export function procedureBindings(model: ProgramModel, proc: Procedure | undefined, user: ReadonlyMap<string, number>, callSite: Map<string, BindingMap>): BindingMap {
+export function procedureBindings(model: ProgramModel, proc: Procedure | undefined, user: ReadonlyMap<string, number>, callSite: CallSiteBindings): BindingMap {
   const out: BindingMap = new Map(model.bindings);
   if (proc) {
     for (const [k, v] of callSite.get(proc.name) ?? []) out.set(k, v);
@@ -57,56 +57,70 @@ function symbolicArgs(c: BodyCall): (S.Expr | undefined)[] {
   return v;
 }
 
-export function callSiteBindings(model: ProgramModel): Map<string, BindingMap> {
+/** The bindings calls give each procedure's scalar parameters, by procedure name. */
+export interface CallSiteBindings {
+  get(name: string): BindingMap | undefined;
+}
+
+/**
+ * Values flow down call chains (main's nx = 256 → run(nx) → sweep(nx)): a parameter is bound when
+ * every call passes it the same value, seen through the caller's own bindings, which its callers
+ * gave it in turn (up to MAX_CHAIN calls up). Worked out per procedure when asked (and kept):
+ * a file of a large workspace asks for its own procedures and the chains above them, not for
+ * every procedure of the project. The result equals rounds over all calls until nothing changes.
+ */
+export function callSiteBindings(model: ProgramModel): CallSiteBindings {
   const callees = calleesOf(model);
-  // One walk collects every call with its arguments as symbolic forms.
-  const calls: { caller: Procedure; callee: Procedure; values: (S.Expr | undefined)[] }[] = [];
+  // Every call into each procedure, in the order a walk of the bodies meets them.
+  const into = new Map<Procedure, { caller: Procedure; values: (S.Expr | undefined)[] }[]>();
   for (const caller of model.procedures) {
     // The calls of each body are found once per body (shared by every file of a workspace).
     for (const c of bodyCalls(caller.body).calls) {
       const callee = callees.resolve(c.name);
       if (!callee || callee === caller) continue;
-      calls.push({ caller, callee, values: symbolicArgs(c) });
+      const list = into.get(callee);
+      if (list) list.push({ caller, values: symbolicArgs(c) });
+      else into.set(callee, [{ caller, values: symbolicArgs(c) }]);
     }
   }
-  // Values flow down call chains (main's nx = 256 → run(nx) → sweep(nx)): each round substitutes
-  // the callers' bindings of the previous round, until nothing changes (a few rounds at most).
-  let out = new Map<string, BindingMap>();
-  for (let round = 0; round < MAX_CHAIN; round++) {
-    const seen = new Map<Procedure, (S.Expr | undefined)[][]>();
-    const locals = new Map<Procedure, BindingMap>();
-    for (const c of calls) {
-      let local = locals.get(c.caller);
-      if (!local) locals.set(c.caller, (local = new Map([...model.bindings, ...(out.get(c.caller.name) ?? []), ...c.caller.bindings])));
-      const list = seen.get(c.callee) ?? [];
-      list.push(c.values.map((e) => (e ? S.substitute(e, local) : undefined)));
-      seen.set(c.callee, list);
-    }
-    const next = new Map<string, BindingMap>();
-    for (const [callee, list] of seen) {
-      const b: BindingMap = new Map();
-      callee.params.forEach((p, i) => {
-        if (p.isArray) return;
-        const first = list[0][i];
-        // A parameter bound to its own name (`f(n)` inside a scope whose n is f's n) says nothing.
-        if (first && !S.equals(first, S.sym(p.name)) && list.every((c) => c[i] && S.equals(c[i]!, first))) b.set(p.name, first);
-      });
-      next.set(callee.name, b);
-    }
-    const stable = [...next].every(([k, b]) => sameBindings(b, out.get(k)));
-    out = next;
-    if (stable) break;
-  }
-  return out;
+  // A name stands for the last procedure of that name that is called (as a table by name keeps it).
+  const byName = new Map<string, Procedure>();
+  for (const callee of into.keys()) byName.set(callee.name, callee);
+  const rounds = new Map<Procedure, (BindingMap | undefined)[]>();
+  const locals = new Map<Procedure, (BindingMap | undefined)[]>();
+  const at = (name: string, round: number): BindingMap | undefined => {
+    const p = round > 0 ? byName.get(name) : undefined;
+    return p ? given(p, round) : undefined;
+  };
+  // The scope a caller's arguments are read in after `round` rounds.
+  const localOf = (caller: Procedure, round: number): BindingMap => {
+    const memo = locals.get(caller) ?? [];
+    locals.set(caller, memo);
+    return (memo[round] ??= new Map([...model.bindings, ...(at(caller.name, round) ?? []), ...caller.bindings]));
+  };
+  const given = (callee: Procedure, round: number): BindingMap => {
+    const memo = rounds.get(callee) ?? [];
+    rounds.set(callee, memo);
+    const hit = memo[round];
+    if (hit) return hit;
+    const list = into.get(callee)!.map((c) => {
+      const local = localOf(c.caller, round - 1);
+      return c.values.map((e) => (e ? S.substitute(e, local) : undefined));
+    });
+    const b: BindingMap = new Map();
+    callee.params.forEach((p, i) => {
+      if (p.isArray) return;
+      const first = list[0][i];
+      // A parameter bound to its own name (`f(n)` inside a scope whose n is f's n) says nothing.
+      if (first && !S.equals(first, S.sym(p.name)) && list.every((c) => c[i] && S.equals(c[i]!, first))) b.set(p.name, first);
+    });
+    memo[round] = b;
+    return b;
+  };
+  return { get: (name) => at(name, MAX_CHAIN) };
 }
 
 const MAX_CHAIN = 6;
-
-function sameBindings(a: BindingMap, b: BindingMap | undefined): boolean {
-  if (!b || a.size !== b.size) return false;
-  for (const [k, v] of a) if (!b.has(k) || !S.equals(v, b.get(k)!)) return false;
-  return true;
-}
 
 /** A quantity as the report shows it: the symbolic form, its value when bound, and what is unbound. */
 export interface Quantity {

@@ -118,7 +118,9 @@ function numericSolutions(p: Numeric, carriers: ReadonlySet<number>): Distance[]
     // Smallest distance first, both signs; with a zero coefficient every distance gives the
     // same equation, so distance 1 stands for all.
     const tries: number[] = [];
-    for (let d = 1; d <= Math.max(Math.abs(lo), Math.abs(hi)) && tries.length < BUDGET; d++) {
+    // The first |e| the range holds (a range far from zero starts there, not at 1).
+    const first = lo > 0 ? lo : hi < 0 ? -hi : 1;
+    for (let d = Math.max(1, first); d <= Math.max(Math.abs(lo), Math.abs(hi)) && tries.length < BUDGET; d++) {
       for (const e of [d, -d]) if (e >= lo && e <= hi) tries.push(e);
       if (ck === 0) break;
     }

@@ -7,43 +7,41 @@
  */
 import { analyzeSource, type AnalyzeDeps, type FileAnalysis } from '../../core/analyze';
 import type { ProgramModel } from '../../core/model/program';
-import { forEachCallInValue, valuesOfStatement, walkStatements } from '../../core/model/values';
+import { bodyCalls } from '../../core/model/callees';
 import { linkAcrossFiles } from '../../core/project/crossFile';
 import { type AnalysisJob, analyzeOptions } from './job';
 
-export function linkCallers(job: AnalysisJob, analysis: FileAnalysis, workspace: ProgramModel[] | undefined, deps: AnalyzeDeps, check: () => void = () => undefined): void {
+/** The indices of the neighbours whose models call a procedure of the document (their time loops may reach it). */
+export function callersOf(job: AnalysisJob, analysis: FileAnalysis, workspace: ProgramModel[] | undefined): number[] {
+  const neighbours = job.neighbours ?? [];
+  if (!workspace || workspace.length !== neighbours.length) return [];
+  const names = new Set(analysis.model.procedures.filter((p) => !p.origin).map((p) => p.name));
+  if (names.size === 0) return [];
+  return workspace.flatMap((m, k) => (callsAny(m, names) ? [k] : []));
+}
+
+export function linkCallers(
+  job: AnalysisJob, analysis: FileAnalysis, workspace: ProgramModel[] | undefined, deps: AnalyzeDeps, check: () => void = () => undefined,
+  callers: number[] = callersOf(job, analysis, workspace),
+): void {
   const neighbours = job.neighbours ?? [];
   const textOf = (p: string): string | undefined => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text);
-  const callers: FileAnalysis[] = [];
-  if (workspace && workspace.length === neighbours.length) {
-    const names = new Set(analysis.model.procedures.filter((p) => !p.origin).map((p) => p.name));
-    workspace.forEach((m, k) => {
-      if (names.size === 0 || !callsAny(m, names)) return;
-      const n = neighbours[k];
-      // Between callers: a stale job stops here (the caller throws to end it).
-      check();
-      const others = [analysis.model, ...workspace.filter((_, j) => j !== k)];
-      // Findings only: the what-if re-analysis (estimates with the suggested region) is not needed.
-      callers.push(analyzeSource({ path: n.path, language: n.language, text: n.text, model: m }, deps, {
-        ...analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }), workspace: others, whatIf: false,
-      }));
-    });
+  const analyses: FileAnalysis[] = [];
+  for (const k of callers) {
+    const m = workspace![k];
+    const n = neighbours[k];
+    // Between callers: a stale job stops here (the caller throws to end it).
+    check();
+    const others = [analysis.model, ...workspace!.filter((_, j) => j !== k)];
+    // Findings only: the what-if re-analysis (estimates with the suggested region) is not needed.
+    analyses.push(analyzeSource({ path: n.path, language: n.language, text: n.text, model: m }, deps, {
+      ...analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }), workspace: others, whatIf: false,
+    }));
   }
-  linkAcrossFiles([analysis, ...callers], textOf, neighbours.map((n) => n.path));
+  linkAcrossFiles([analysis, ...analyses], textOf, neighbours.map((n) => n.path));
 }
 
 /** True when a procedure of the model calls one of `names` (as a statement or inside an expression). */
 function callsAny(model: ProgramModel, names: ReadonlySet<string>): boolean {
-  let found = false;
-  for (const p of model.procedures) {
-    if (p.origin) continue;
-    walkStatements(p.body, (s) => {
-      if (found) return false;
-      if (s.kind === 'call' && names.has(s.name)) found = true;
-      for (const v of valuesOfStatement(s)) forEachCallInValue(v, (c) => { if (names.has(c.name)) found = true; });
-      return !found;
-    });
-    if (found) return true;
-  }
-  return false;
+  return model.procedures.some((p) => !p.origin && bodyCalls(p.body).calls.some((c) => names.has(c.name)));
 }

@@ -13,7 +13,7 @@ import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
 import { buildView } from '../view/build';
-import { linkCallers } from './callers';
+import { callersOf, linkCallers } from './callers';
 import type { DocumentView, ViewOptions } from '../view/types';
 
 export interface AnalysisJob {
@@ -169,8 +169,16 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
   checkCancelled(hooks);
   const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace });
   checkCancelled(hooks);
-  // Findings that span two files: linked to the other end, and those of callers' time loops that land here.
-  linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks));
+  // Findings that span two files: linked to the other end, and those of callers' time loops that
+  // land here. Analysing a caller costs its whole time loop (every kernel it runs, in any file),
+  // so the document's own findings go out first when there is one.
+  const callers = callersOf(job, analysis, workspace);
+  if (hooks?.early && callers.length > 0) {
+    const own = { ...analysis, findings: analysis.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
+    linkAcrossFiles([own], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path));
+    hooks.early(view(own));
+  }
+  linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers);
   checkCancelled(hooks);
   return view(analysis);
 }
