@@ -52,8 +52,9 @@ describe('the CLI reports a callee transfer in both files', () => {
     const twins = files['kernels.c'].filter((f) => f.code === 'transfer-in-time-loop');
     expect(twins.map((f) => f.line)).toEqual([3, 3]);
     for (const f of twins) {
-      expect(f.message).toMatch(/^From the time loop in main\.c \(the call at line 10\): `(bz|src)` \(32\.0 KiB\) is copied/);
-      expect(f.message).toContain('(quick fix available in main.c)');
+      // Files are named from the folder the check runs in, as the report's paths are.
+      expect(f.message).toMatch(/^From the time loop in tests\/fixtures\/workspace\/main\.c \(the call at line 10\): `(bz|src)` \(32\.0 KiB\) is copied/);
+      expect(f.message).toContain('(quick fix available in tests/fixtures/workspace/main.c)');
       expect(f.message).not.toContain('reached from this call');
       // The JSON carries the other end too: the call in main.c.
       expect(f.related?.map((r) => `${r.path.split('/').pop()}:${r.line}`)).toEqual(['main.c:10']);

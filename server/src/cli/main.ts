@@ -76,10 +76,10 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   // Every file's model first, so that a time loop calling a kernel in another file follows it.
   const models = files.map((f, k) => buildModel(f, deps, settings[k]));
   const analyses: FileAnalysis[] = files.map((f, k) =>
-    analyzeSource({ ...f, model: models[k] }, deps, { ...settings[k], bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables }),
+    analyzeSource({ ...f, model: models[k] }, deps, { ...settings[k], bindings: args.bindings, profile, baseline: args.baseline, workspace: models.length > 1 ? models : undefined, timeLoopVariables: args.timeLoopVariables, projectRoot: process.cwd() }),
   );
   // A transfer or stale access in a callee of another file: reported at the call and at the callee, linked.
-  if (analyses.length > 1) linkAcrossFiles(analyses, (p) => files.find((f) => f.path === p)?.text);
+  if (analyses.length > 1) linkAcrossFiles(analyses, (p) => files.find((f) => f.path === p)?.text, [], process.cwd());
   for (const a of analyses) {
     for (const ie of a.internalErrors) err(`offload-ledger: internal error while analysing ${a.path}: ${ie.split('\n')[0]}`);
   }

@@ -80,6 +80,8 @@ export interface AnalyzeOptions extends PreprocessSettings {
   programRun?: boolean;
   /** Models of the other files of the workspace: calls into them are followed. */
   workspace?: readonly ProgramModel[];
+  /** The project root: messages name other files relative to it when both lie inside (else to this file's folder). */
+  projectRoot?: string;
   /** Loop variables the user names as time-loop variables (`--time-loop iter`); default none. */
   timeLoopVariables?: readonly string[];
 }
@@ -390,6 +392,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     }
     const data = dataLedger(model, input.text, ownTimeLoops, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? [], {
       deviceMemoryBytes: options.deviceMemoryBytes ?? profile.device.memoryBytes,
+      ...(options.projectRoot ? { projectRoot: options.projectRoot } : {}),
     });
     const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
     result.findings.push(...data.findings);

@@ -137,6 +137,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     return {
       uri, version, text, language,
       path,
+      root: folder,
       neighbours,
       bindings: Object.entries(settings.sizeBindings),
       preprocess: preprocessFor(db, path, user),

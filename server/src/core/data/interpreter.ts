@@ -4,7 +4,7 @@
  * copy of each element. Each time loop body runs twice; the second pass is the steady state and
  * is the one recorded per step.
  */
-import { relativeToFile } from '../paths';
+import { otherFileName } from '../paths';
 import * as S from '../symbolic';
 import type { ArrayAccess, Declaration, LoopStmt, Procedure, ProgramModel, Stmt, VExpr } from '../model/program';
 import { findByName, firstByName } from '../model/names';
@@ -186,6 +186,8 @@ export class DataInterpreter {
     private readonly bindingsOf: (p: Procedure) => Map<string, S.Expr>,
     private readonly nestStrides: (key: string) => S.Expr[][],
     procs?: Map<string, Procedure>,
+    /** The project root messages name other files from (paths.ts otherFileName). */
+    private readonly projectRoot?: string,
   ) {
     this.procs = procs ?? new Map(model.procedures.map((p) => [p.name, p]));
   }
@@ -925,7 +927,7 @@ export class DataInterpreter {
   private finding(code: Finding['code'], range: Range, array: string, message: string, frame?: Frame): Finding | undefined {
     const origin = frame?.proc.origin;
     const at = origin && frame.via[0] ? frame.via[0] : range;
-    const text = origin ? `In ${relativeToFile(this.model.path, origin)}, line ${range.start.line + 1} (reached from this call): ${message}` : message;
+    const text = origin ? `In ${otherFileName(this.model.path, origin, this.projectRoot)}, line ${range.start.line + 1} (reached from this call): ${message}` : message;
     // Keyed by what the user reads, not by the storage: after a swap two storages can give the
     // same finding at the same place.
     const id = `${code}:${at.start.line}:${at.start.col}:${message}:${origin ?? ''}:${range.start.line}`;

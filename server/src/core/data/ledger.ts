@@ -3,7 +3,7 @@
  * (where, why, how often), bytes per step and once, coherence findings, and the data region that
  * keeps the arrays resident.
  */
-import { relativeToFile } from '../paths';
+import { otherFileName } from '../paths';
 import { entryRootOf, isMain } from './entry';
 import type { ArrayInfo } from './arrays';
 import * as S from '../symbolic';
@@ -61,6 +61,8 @@ export interface TimeLoopLedger {
 
 export interface DataLedgerOptions {
   deviceMemoryBytes: number;
+  /** The project root messages name other files from (paths.ts otherFileName). */
+  projectRoot?: string;
 }
 
 export function dataLedger(
@@ -90,10 +92,10 @@ export function dataLedger(
   }
   const entries = new Map<Procedure, EntryState>();
   for (const [root, targets] of byRoot) {
-    for (const [p, e] of new DataInterpreter(model, new Set(), bindingsOf, nestStrides, procs).entriesFrom(root, targets)) entries.set(p, e);
+    for (const [p, e] of new DataInterpreter(model, new Set(), bindingsOf, nestStrides, procs, options.projectRoot).entriesFrom(root, targets)) entries.set(p, e);
   }
   for (const proc of withLoops) {
-    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides, procs);
+    const interp = new DataInterpreter(model, loops, bindingsOf, nestStrides, procs, options.projectRoot);
     interp.runProcedure(proc, entries.get(proc));
     attachCoherenceFixes(interp, model, text, family);
     findings.push(...interp.findings);
@@ -118,7 +120,7 @@ export function dataLedger(
       };
       ledgers.push(ledger);
       const regionFix = dataRegion && dataRegion.edits.length > 0 ? regionFixOf(dataRegion) : undefined;
-      const fromTransfers = transferFindings(ledger, bindings, model.path, familyIn(run.loop, family), lineAt);
+      const fromTransfers = transferFindings(ledger, bindings, model.path, (to) => otherFileName(model.path, to, options.projectRoot), familyIn(run.loop, family), lineAt);
       for (const f of fromTransfers) if (regionFix && (f.code === 'implicit-transfer' || f.severity === 'warning')) f.fixes = [regionFix];
       findings.push(...fromTransfers, ...widerUpdateFindings(ledger, interp, model, lineAt, familyIn(run.loop, family)), ...memoryFindings(ledger, options));
     }
@@ -164,7 +166,7 @@ function perStepQuantity(ts: TransferRecord[], bindings: ReadonlyMap<string, S.E
 }
 
 /** One finding per (directive, array): both directions of a copy in one sentence. */
-function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string, family: DirectiveFamily, lineAt: (line: number) => string): Finding[] {
+function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Expr>, path: string, nameOf: (other: string) => string, family: DirectiveFamily, lineAt: (line: number) => string): Finding[] {
   const groups = new Map<string, TransferReport[]>();
   for (const t of l.transfers) {
     const id = `${t.origin ?? ''}:${t.range.start.line}:${t.range.start.col}:${t.array}:${t.cause === 'implicit'}`;
@@ -184,7 +186,7 @@ function transferFindings(l: TimeLoopLedger, bindings: ReadonlyMap<string, S.Exp
     const sizeText = size !== null ? ` (${S.formatBytes(size)})` : '';
     const amounts = amountsText(perStepExpr, perStep, steps);
     const via = t0.origin
-      ? ` (the directive is in ${relativeToFile(path, t0.origin)}, line ${t0.range.start.line + 1}, reached from this call)`
+      ? ` (the directive is in ${nameOf(t0.origin)}, line ${t0.range.start.line + 1}, reached from this call)`
       : t0.via.length > 0 ? ` (reached from the call at line ${t0.via.map((r) => r.start.line + 1).join(' → ')})` : '';
     // A directive in another file is reported at the call in this file that reaches it.
     const place = (r: Range): Range => (t0.origin && t0.via[0] ? t0.via[0] : r);

@@ -9,7 +9,7 @@
  * adds findings and related locations; it never changes a figure.
  */
 import type { FileAnalysis } from '../analyze';
-import { relativeToFile } from '../paths';
+import { otherFileName } from '../paths';
 import type { Finding, Range } from '../types';
 
 /** Codes a callee's clause or access gives through a call (the ledger's and the interpreter's). */
@@ -29,7 +29,7 @@ const same = (a: Range, b: Range): boolean =>
  * finding can still point into them.
  */
 export function linkAcrossFiles(
-  analyses: readonly FileAnalysis[], textOf: (path: string) => string | undefined = () => undefined, otherPaths: readonly string[] = [],
+  analyses: readonly FileAnalysis[], textOf: (path: string) => string | undefined = () => undefined, otherPaths: readonly string[] = [], root?: string,
 ): void {
   const byPath = new Map(analyses.map((a) => [a.path, a]));
   const twins = new Map<FileAnalysis, Finding[]>();
@@ -51,22 +51,22 @@ export function linkAcrossFiles(
         const atCall = a.findings.filter((f) => TRANSFER_CODES.has(f.code) && f.array === t.array && same(f.range, call));
         const finding = atCall.find((f) => f.message.includes(`, line ${t.range.start.line + 1}, reached from this call`)) ?? (atCall.length === 1 ? atCall[0] : undefined);
         if (!finding) continue;
-        relate(finding, { path: t.origin, range: at, message: `the directive that moves \`${t.array}\` (${relativeToFile(a.path, t.origin)}, line ${at.start.line + 1})` });
+        relate(finding, { path: t.origin, range: at, message: `the directive that moves \`${t.array}\` (${otherFileName(a.path, t.origin, root)}, line ${at.start.line + 1})` });
         const callee = byPath.get(t.origin);
-        if (callee) addTwin(callee, twin(finding, a.path, callee.path, call, at));
+        if (callee) addTwin(callee, twin(finding, a.path, callee.path, call, at, root));
       }
     }
     // Stale reads and other interpreter findings in a callee: the message names the callee line.
     for (const f of a.findings) {
       const m = IN_CALLEE.exec(f.message);
       if (!m) continue;
-      const path = [...analyses.map((b) => b.path), ...otherPaths].find((p) => p !== a.path && relativeToFile(a.path, p) === m[1]);
+      const path = [...analyses.map((b) => b.path), ...otherPaths].find((p) => p !== a.path && otherFileName(a.path, p, root) === m[1]);
       if (!path) continue;
       const line = Number(m[2]) - 1;
       const range = lineRange(textOf(path), line);
       relate(f, { path, range, message: `where it happens (${m[1]}, line ${line + 1})` });
       const callee = byPath.get(path);
-      if (callee) addTwin(callee, twin({ ...f, message: f.message.slice(m[0].length) }, a.path, path, f.range, range));
+      if (callee) addTwin(callee, twin({ ...f, message: f.message.slice(m[0].length) }, a.path, path, f.range, range, root));
     }
   }
   for (const [b, list] of twins) {
@@ -86,8 +86,8 @@ function relate(f: Finding, r: NonNullable<Finding['related']>[number]): void {
  * directive, saying which call of which time loop reaches it. It carries no quick fix (the fix
  * is in the caller's file, where the time loop is).
  */
-function twin(f: Finding, callerPath: string, calleePath: string, call: Range, at: Range): Finding {
-  const caller = relativeToFile(calleePath, callerPath);
+function twin(f: Finding, callerPath: string, calleePath: string, call: Range, at: Range, root?: string): Finding {
+  const caller = otherFileName(calleePath, callerPath, root);
   const text = f.message.replace(VIA_CLAUSE, '').replace(/ \(quick fix available\)/, ` (quick fix available in ${caller})`);
   return {
     code: f.code,

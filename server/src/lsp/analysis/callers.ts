@@ -38,7 +38,7 @@ export function linkCallers(
       ...analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }), workspace: others, whatIf: false,
     }));
   }
-  linkAcrossFiles([analysis, ...analyses], textOf, neighbours.map((n) => n.path));
+  linkAcrossFiles([analysis, ...analyses], textOf, neighbours.map((n) => n.path), job.root);
 }
 
 /** True when a procedure of the model calls one of `names` (as a statement or inside an expression). */

@@ -30,6 +30,8 @@ export interface AnalysisJob {
   /** Loop variables the user names as time-loop variables (setting `timeLoopVariables`). */
   timeLoopVariables?: string[];
   view: ViewOptions;
+  /** The workspace folder holding the document: messages name other files relative to it. */
+  root?: string;
   /**
    * Other sources beside the document (and, with a compilation database, the project's other
    * sources): calls from its time loops into them are followed. `preprocess`: the file's own flags.
@@ -131,6 +133,7 @@ export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
   return {
     bindings: new Map(job.bindings), ...(job.baseline === 'auto' ? {} : { baseline: job.baseline }), ...(job.profile ? { profile: job.profile } : {}),
     ...(job.timeLoopVariables && job.timeLoopVariables.length > 0 ? { timeLoopVariables: job.timeLoopVariables } : {}),
+    ...(job.root ? { projectRoot: job.root } : {}),
     ...(pp ? { defines: new Map(pp.defines), undefines: pp.undefines, includeDirs: pp.includeDirs, directives: pp.directives } : {}),
   };
 }
@@ -160,7 +163,7 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
       const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace: ws });
       checkCancelled(hooks);
       if (!(up && analysis.timeLoops.length > 0)) {
-        linkAcrossFiles([analysis], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path));
+        linkAcrossFiles([analysis], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
         hooks.early(view(analysis));
       }
     }
@@ -175,7 +178,7 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
   const callers = callersOf(job, analysis, workspace);
   if (hooks?.early && callers.length > 0) {
     const own = { ...analysis, findings: analysis.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
-    linkAcrossFiles([own], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path));
+    linkAcrossFiles([own], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
     hooks.early(view(own));
   }
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers);

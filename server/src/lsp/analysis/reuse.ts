@@ -11,7 +11,7 @@ import type { AnalysisJob } from './job';
 /** Every input of a job except the texts and the version, as one comparable string. */
 function settingsKey(job: AnalysisJob): string {
   return JSON.stringify([
-    job.uri, job.path, job.language, job.bindings, job.preprocess ?? null, job.profile ?? null, job.baseline, job.timeLoopVariables ?? null, job.view,
+    job.uri, job.path, job.language, job.bindings, job.preprocess ?? null, job.profile ?? null, job.baseline, job.timeLoopVariables ?? null, job.view, job.root ?? null,
     (job.neighbours ?? []).map((n) => [n.path, n.language, n.preprocess ?? null]),
   ]);
 }
