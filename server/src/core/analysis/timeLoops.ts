@@ -102,7 +102,11 @@ export class LoopJudge {
     const swap = swaps[0] ?? rotation(edges);
     if (swap) return { time: true, reason: `it swaps \`${swap.a}\` and \`${swap.b}\` every pass (line ${swap.line}), so each pass reads what the previous one wrote` };
     const byArray = new Map<string, Event[]>();
-    for (const e of events) byArray.set(e.array, [...(byArray.get(e.array) ?? []), e]);
+    for (const e of events) {
+      const list = byArray.get(e.array);
+      if (list) list.push(e);
+      else byArray.set(e.array, [e]);
+    }
     const carried: { array: string; read: Event; write: Event }[] = [];
     const unseen: Event[] = [];
     /** Arrays every pass reads without writing them first (inputs of repeated work). */
@@ -120,7 +124,10 @@ export class LoopJudge {
       if (!exposed) continue;
       if (!write) inputs.push(array);
       else if (exposed.unseen && write.unseen) unseen.push(exposed);
-      else carried.push({ array, read: exposed, write: shared.find((e) => e.write && shared.indexOf(e) >= shared.indexOf(exposed)) ?? write });
+      else {
+        const from = shared.indexOf(exposed);
+        carried.push({ array, read: exposed, write: shared.find((e, k) => e.write && k >= from) ?? write });
+      }
     }
     if (carried.length > 0) {
       const c = carried[0];
@@ -345,13 +352,14 @@ function keyOf(a: ArrayAccess, canon: ReadonlyMap<string, S.Expr>): string | und
  * read sees what an earlier pass left. Within one statement the read comes first (`a[i] += …`).
  */
 function firstExposedRead(shared: Event[]): Event | undefined {
-  const writes: Event[] = [];
+  // The keys written so far (a set, so a pass of thousands of accesses stays linear).
+  const keys = new Set<string>();
   for (const e of shared) {
     if (e.read) {
-      const covered = writes.some((w) => w.key === '*' || (w.key !== undefined && w.key === e.key));
+      const covered = keys.has('*') || (e.key !== undefined && keys.has(e.key));
       if (!covered) return e;
     }
-    if (e.write) writes.push(e);
+    if (e.write && e.key !== undefined) keys.add(e.key);
   }
   return undefined;
 }
