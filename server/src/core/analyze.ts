@@ -80,6 +80,12 @@ export interface AnalyzeOptions extends PreprocessSettings {
   programRun?: boolean;
   /** Models of the other files of the workspace: calls into them are followed. */
   workspace?: readonly ProgramModel[];
+  /**
+   * Asked between steps (nests, the data ledger, the races, the what-if and port re-analyses):
+   * true once the caller no longer wants this result (a newer edit). The analysis then stops by
+   * throwing AnalysisCancelled, and the caller's caches stay as they were.
+   */
+  cancelled?: () => boolean;
   /** The project root: messages name other files relative to it when both lie inside (else to this file's folder). */
   projectRoot?: string;
   /** Loop variables the user names as time-loop variables (`--time-loop iter`); default none. */
@@ -302,7 +308,17 @@ export interface FileAnalysis {
   notUnderstood: NotUnderstood[];
 }
 
+/** Thrown by analyzeSource when `options.cancelled()` says the result is no longer wanted. */
+export class AnalysisCancelled extends Error {
+  constructor() {
+    super('analysis cancelled');
+  }
+}
+
 export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions = {}): FileAnalysis {
+  const stopIfCancelled = (): void => {
+    if (options.cancelled?.()) throw new AnalysisCancelled();
+  };
   const profile = options.profile ?? presetProfile(DEFAULT_PROFILE)!;
   let baseline: Baseline = options.baseline ?? 'node';
   const result: FileAnalysis = {
@@ -375,7 +391,10 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     result.notTimeLoops = scan.rejected.filter((r) => !r.procedure.origin);
     // Nests of other files are costed too (a time loop here may run them) but reported there.
     const external = result.externalNests;
+    let costed = 0;
     for (const nest of scan.nests) {
+      // Between nests (every 16, the check is a load of a shared flag in the editor's worker).
+      if ((++costed & 15) === 0) stopIfCancelled();
       const it = nestIterations(nest);
       const iterations = quantity(it.expr, bind(nest), it.display);
       const cost = nestCost(nest, model, bind(nest), iterations.value, { cacheBytes: options.cacheBytes ?? profile.host.cacheBytesPerCore });
@@ -383,7 +402,9 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       report.estimate = nestEstimate(iterations.value, cost, profile, baseline);
       (nest.procedure.origin ? external : result.nests).push(report);
     }
+    stopIfCancelled();
     result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n), input.text));
+    stopIfCancelled();
     const ownTimeLoops = scan.timeLoops.filter((t) => !t.procedure.origin);
     const allNests = external.length > 0 ? [...result.nests, ...external] : result.nests;
     const strides = new Map<string, S.Expr[][]>();
@@ -394,6 +415,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       deviceMemoryBytes: options.deviceMemoryBytes ?? profile.device.memoryBytes,
       ...(options.projectRoot ? { projectRoot: options.projectRoot } : {}),
     });
+    stopIfCancelled();
     const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
     result.findings.push(...data.findings);
     if (options.programRun && data.ledgers.length === 0) {
@@ -409,6 +431,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     result.findings.push(...unknownExtentFindings(result));
     result.notUnderstood = notUnderstood(result.nests, model.language === 'fortran');
     if (options.bindings && options.bindings.size > 0) result.unmatchedBindings = unmatchedBindings(model, options.bindings);
+    stopIfCancelled();
     if (options.plans !== false && portable(result).length > 0) {
       const again = (text: string, what: boolean): FileAnalysis =>
         analyzeSource({ ...input, text, model: undefined }, deps, { ...options, baseline, plans: false, whatIf: what, programRun: false });
@@ -422,6 +445,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       }
     }
   } catch (err) {
+    if (err instanceof AnalysisCancelled) throw err;
     result.internalErrors.push(err instanceof Error ? `${err.message}\n${err.stack ?? ''}` : String(err));
   }
   dropNoOpFixes(result.findings, input.text);

@@ -22,7 +22,7 @@ export function callersOf(job: AnalysisJob, analysis: FileAnalysis, workspace: P
 
 export function linkCallers(
   job: AnalysisJob, analysis: FileAnalysis, workspace: ProgramModel[] | undefined, deps: AnalyzeDeps, check: () => void = () => undefined,
-  callers: number[] = callersOf(job, analysis, workspace),
+  callers: number[] = callersOf(job, analysis, workspace), cancelled?: () => boolean,
 ): void {
   const neighbours = job.neighbours ?? [];
   const textOf = (p: string): string | undefined => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text);
@@ -35,7 +35,7 @@ export function linkCallers(
     const others = [analysis.model, ...workspace!.filter((_, j) => j !== k)];
     // Findings only: the what-if re-analysis (estimates with the suggested region) is not needed.
     analyses.push(analyzeSource({ path: n.path, language: n.language, text: n.text, model: m }, deps, {
-      ...analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }), workspace: others, whatIf: false,
+      ...analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }), ...(cancelled ? { cancelled } : {}), workspace: others, whatIf: false,
     }));
   }
   linkAcrossFiles([analysis, ...analyses], textOf, neighbours.map((n) => n.path), job.root);

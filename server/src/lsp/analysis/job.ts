@@ -3,7 +3,7 @@
  * the view need. It is plain data, so it crosses to the analysis worker by structured clone.
  */
 import { performance } from 'node:perf_hooks';
-import { analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions, type FileAnalysis } from '../../core/analyze';
+import { AnalysisCancelled, analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions, type FileAnalysis } from '../../core/analyze';
 import { linkAcrossFiles } from '../../core/project/crossFile';
 import { filesNeeded, lexiconOf, type Lexicon } from '../../core/project/lexicon';
 import type { ProgramModel } from '../../core/model/program';
@@ -143,7 +143,18 @@ export function analyzeOptions(job: AnalysisJob): AnalyzeOptions {
  * the view. Throws Cancelled between those steps once `hooks.cancelled()` says the job is stale.
  */
 export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks): DocumentView {
+  try {
+    return runJobSteps(job, grammars, hooks);
+  } catch (e) {
+    // A stale job stopped inside an analysis (between nests or phases): the same as between files.
+    if (e instanceof AnalysisCancelled) throw new Cancelled();
+    throw e;
+  }
+}
+
+function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks): DocumentView {
   const t0 = performance.now();
+  const cancelled = hooks?.cancelled ? { cancelled: hooks.cancelled } : {};
   // Headers are read from disk in the worker, as the CLI reads them.
   const deps: AnalyzeDeps = { ...grammars, readInclude: readHeader };
   const neighbours = job.neighbours ?? [];
@@ -160,7 +171,7 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
     if (first.length < neighbours.length) {
       const ws = first.length > 0 ? modelsOf(job, first, deps, total, hooks) : undefined;
       checkCancelled(hooks);
-      const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace: ws });
+      const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), ...cancelled, workspace: ws });
       checkCancelled(hooks);
       if (!(up && analysis.timeLoops.length > 0)) {
         linkAcrossFiles([analysis], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
@@ -170,7 +181,7 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
   }
   const workspace = neighbours.length > 0 ? modelsOf(job, neighbours, deps, total, hooks) : undefined;
   checkCancelled(hooks);
-  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), workspace });
+  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), ...cancelled, workspace });
   checkCancelled(hooks);
   // Findings that span two files: linked to the other end, and those of callers' time loops that
   // land here. Analysing a caller costs its whole time loop (every kernel it runs, in any file),
@@ -181,7 +192,7 @@ export function runJob(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks
     linkAcrossFiles([own], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
     hooks.early(view(own));
   }
-  linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers);
+  linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers, hooks?.cancelled);
   checkCancelled(hooks);
   return view(analysis);
 }
