@@ -17,7 +17,7 @@ import { forEachCallInValue } from '../server/src/core/model/values';
 import { ownModelInWorkspace } from '../server/src/core/model/workspace';
 import * as S from '../server/src/core/symbolic';
 import { fileReport } from '../server/src/core/report';
-import { ROOT, analyzeText, grammarsForTests, runCli } from './helpers';
+import { ROOT, analyzeFile, analyzeText, grammarsForTests, runCli } from './helpers';
 
 const DIR = 'tests/fixtures/fortran-idioms';
 const at = (file: string): string => join(ROOT, DIR, file);
@@ -358,5 +358,14 @@ describe('host association in internal procedures', () => {
     // the update moves n = 300 real(8) values of h = 2,400 bytes per step (hand count).
     expect(r.timeLoops[0].transfers.map((t) => [t.line, t.array, t.bytes.value])).toEqual([[24, 'h', 2400]]);
     expect(errors(r)).toEqual([]);
+  });
+});
+
+describe('a Fortran loop over tiles says what it picks in Fortran', () => {
+  it('names the picked element `chunk%tiles(tile)`, as the source writes it, not with C brackets', async () => {
+    const a = await analyzeFile(`${DIR}/tiles_components.f90`);
+    expect(a.notTimeLoops).toHaveLength(1);
+    expect(a.notTimeLoops[0].reason).toContain('picked by `tile` (`chunk%tiles(tile)`');
+    expect(a.notTimeLoops[0].reason).not.toMatch(/\[/);
   });
 });

@@ -77,12 +77,15 @@ const MAX_DEPTH = 8;
 
 export class LoopJudge {
   private readonly procs: Map<string, Procedure>;
+  /** Picked elements are written as the file writes them (`tiles(t)` in Fortran). */
+  private readonly fortran: boolean;
 
   constructor(
     private readonly model: ProgramModel,
     private readonly callees: Callees,
   ) {
     this.procs = new Map(model.procedures.map((p) => [p.name, p]));
+    this.fortran = model.language === 'fortran';
   }
 
   /**
@@ -195,7 +198,7 @@ export class LoopJudge {
         case 'if': {
           reads(s.condition);
           const sel = v ? selector(s.condition, v) : undefined;
-          const inner: Frame = sel ? { ...f, picked: f.picked ?? `${s.conditionText || printValue(s.condition)}` } : f;
+          const inner: Frame = sel ? { ...f, picked: f.picked ?? `${s.conditionText || printValue(s.condition, this.fortran)}` } : f;
           this.walk(s.then, inner, v, events, edges, swaps);
           this.walk(s.otherwise, inner, v, events, edges, swaps);
           break;
@@ -257,7 +260,7 @@ export class LoopJudge {
       const a = base.access;
       const byV = a.subscripts.some((sub, k) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(a.subscriptValues[k], v)));
       if (byV) {
-        f.aliases.set(target, { array: `${this.nameIn(a.array, f)}[…]`, ownPass: true, picked: printValue(base) });
+        f.aliases.set(target, { array: `${this.nameIn(a.array, f)}${this.fortran ? "(…)" : "[…]"}`, ownPass: true, picked: printValue(base, this.fortran) });
         return;
       }
     }
@@ -272,7 +275,7 @@ export class LoopJudge {
       // A component of the element a loop over `v` picks (`chunk%tiles(v)%field%u`): that pass's own copy.
       if (b.kind === 'var' && v && b.through?.some((x) => mentions(x, v))) {
         const name = f.aliases.get(b.name)?.array ?? this.nameIn(b.name, f);
-        return { name, alias: { array: name, ownPass: true, picked: printValue(b) } };
+        return { name, alias: { array: name, ownPass: true, picked: printValue(b, this.fortran) } };
       }
       if (b.kind === 'var' && (this.isPointer(b.name, f) || f.aliases.has(b.name))) {
         const alias = f.aliases.get(b.name);
@@ -283,7 +286,7 @@ export class LoopJudge {
         const acc = b.access;
         const byV = !!v && acc.subscripts.some((sub, k) => (sub ? S.degreeIn(sub, v) !== 0 : mentions(acc.subscriptValues[k], v)));
         const name = this.nameIn(acc.array, f);
-        return { name, alias: byV || f.picked ? { array: name, ownPass: true, picked: byV ? printValue(b) : f.picked } : undefined };
+        return { name, alias: byV || f.picked ? { array: name, ownPass: true, picked: byV ? printValue(b, this.fortran) : f.picked } : undefined };
       }
       return undefined;
     };

@@ -44,7 +44,7 @@ export function coveredReads(root: LoopStmt, subscriptsOf: (a: ArrayAccess) => (
       variableNames(v, names);
       forEachAccessInValue(v, (x) => arrays.add(x.array));
     }
-    return { key: `${a.array}[${a.subscriptValues.map(printValue).join('][')}]#text`, touched: { names, arrays } };
+    return { key: `${a.array}[${a.subscriptValues.map((v) => printValue(v)).join('][')}]#text`, touched: { names, arrays } };
   };
   const read = (a: ArrayAccess, set: TouchedSet): void => {
     const { key, touched } = nameOf(a);

@@ -255,20 +255,23 @@ export function walkStatements(stmts: readonly Stmt[], visit: (s: Stmt) => boole
 }
 
 /** Prints a value expression in C-like notation for messages (fully parenthesised where needed). */
-export function printValue(e: VExpr): string {
+/** A value as source text; `fortran` writes an element as `a(i, j)` rather than `a[i][j]`. */
+export function printValue(e: VExpr, fortran = false): string {
+  const p = (x: VExpr): string => printValue(x, fortran);
+  const w = (x: VExpr): string => wrap(x, fortran);
   switch (e.kind) {
     case 'num': return e.text;
     case 'var': return e.name;
     case 'opaque': return e.text;
-    case 'index': return `${e.access.array}[${e.access.subscriptValues.map(printValue).join('][')}]`;
-    case 'bin': return `${wrap(e.left)} ${e.op} ${wrap(e.right)}`;
-    case 'unary': return `${e.op}${wrap(e.operand)}`;
-    case 'cast': return `(${e.type.name})${wrap(e.operand)}`;
-    case 'call': return `${e.name}(${e.args.map(printValue).join(', ')})`;
-    case 'cond': return `${wrap(e.test)} ? ${wrap(e.then)} : ${wrap(e.else)}`;
+    case 'index': return fortran ? `${e.access.array}(${e.access.subscriptValues.map(p).join(', ')})` : `${e.access.array}[${e.access.subscriptValues.map(p).join('][')}]`;
+    case 'bin': return `${w(e.left)} ${e.op} ${w(e.right)}`;
+    case 'unary': return `${e.op}${w(e.operand)}`;
+    case 'cast': return `(${e.type.name})${w(e.operand)}`;
+    case 'call': return `${e.name}(${e.args.map(p).join(', ')})`;
+    case 'cond': return `${w(e.test)} ? ${w(e.then)} : ${w(e.else)}`;
   }
 }
 
-function wrap(e: VExpr): string {
-  return e.kind === 'bin' || e.kind === 'cond' ? `(${printValue(e)})` : printValue(e);
+function wrap(e: VExpr, fortran = false): string {
+  return e.kind === 'bin' || e.kind === 'cond' ? `(${printValue(e, fortran)})` : printValue(e, fortran);
 }

@@ -109,7 +109,7 @@ export class CExpressionBuilder {
     return {
       array: normaliseName(base.text),
       subscripts: values.map(subscriptSymbolic),
-      subscriptText: values.map(printValue),
+      subscriptText: values.map((v) => printValue(v)),
       subscriptValues: values,
       isWrite,
       isRead,

@@ -73,7 +73,7 @@ export function instantiate(template: VExpr, params: string[], args: VExpr[], at
 }
 
 export function rebuildAccess(a: ArrayAccess, values: VExpr[], at: Range): ArrayAccess {
-  return { ...a, subscriptValues: values, subscripts: values.map((v) => subscriptSymbolic(v)), subscriptText: values.map(printValue), range: at };
+  return { ...a, subscriptValues: values, subscripts: values.map((v) => subscriptSymbolic(v)), subscriptText: values.map((v) => printValue(v)), range: at };
 }
 
 /** The array an argument names: a variable (`u`), a member (`f.u`, `p->u`), or a cast of one. */
