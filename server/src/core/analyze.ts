@@ -368,12 +368,21 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     const user = options.bindings ?? new Map<string, number>();
     const callSite = callSiteBindings(model);
     const bindingsOf = new Map<string, BindingMap>();
+    // The first procedure of each name (as a search of the list finds it), indexed once.
+    let byName: Map<string, Procedure> | undefined;
+    const firstByName = (): Map<string, Procedure> => {
+      if (!byName) {
+        byName = new Map();
+        for (const p of model.procedures) if (!byName.has(p.name)) byName.set(p.name, p);
+      }
+      return byName;
+    };
     const bind = (nest: { procedure: { name: string } }): BindingMap => {
       // Bindings are per procedure and built once; the ledgers ask for them many times.
       const name = nest.procedure.name;
       let b = bindingsOf.get(name);
       if (!b) {
-        b = procedureBindings(model, model.procedures.find((p) => p.name === name), user, callSite);
+        b = procedureBindings(model, firstByName().get(name), user, callSite);
         bindingsOf.set(name, b);
       }
       return b;

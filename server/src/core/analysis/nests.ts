@@ -170,7 +170,7 @@ interface Work {
   enclosesKernels: boolean;
 }
 
-function workOf(loop: LoopStmt, withLoops: Set<string>): Work {
+function workOf(loop: LoopStmt, withLoops: WithLoops): Work {
   let offloadOrData = false;
   let offloadInside = false;
   let calls = 0;
@@ -224,29 +224,58 @@ function indexesNestedArrays(loop: LoopStmt): boolean {
 }
 
 /** Procedures that contain a loop, directly or through calls (fixpoint over the call graph). */
-const withLoopsCache = new WeakMap<ProgramModel, Set<string>>();
-function proceduresWithLoops(model: ProgramModel): Set<string> {
+/** Names of procedures that hold a loop or call (as a statement) one that does, asked per name. */
+interface WithLoops {
+  has(name: string): boolean;
+}
+
+const withLoopsCache = new WeakMap<ProgramModel, WithLoops>();
+
+/**
+ * Which procedures hold loops, directly or through the procedures they call, answered per name
+ * when asked (a file of a large workspace asks about its own calls, not about every procedure of
+ * the project). A name holds loops when any procedure of that name has one; its calls are those of
+ * the last procedure of that name. A search from a name that finds no loop settles every name it
+ * passed through (none of them reaches one either).
+ */
+function proceduresWithLoops(model: ProgramModel): WithLoops {
   const cached = withLoopsCache.get(model);
   if (cached) return cached;
-  const out = new Set<string>();
-  withLoopsCache.set(model, out);
-  const calls = new Map<string, string[]>();
   const resolve = calleesOf(model);
+  const byName = new Map<string, Procedure>();
+  const direct = new Set<string>();
   for (const p of model.procedures) {
-    const b = bodyCalls(p.body);
-    if (b.hasLoop) out.add(p.name);
-    calls.set(p.name, b.calls.filter((c) => c.statement).map((c) => resolve.resolve(c.name)?.name ?? c.name));
+    byName.set(p.name, p);
+    if (bodyCalls(p.body).hasLoop) direct.add(p.name);
   }
-  let changed = true;
-  while (changed) {
-    changed = false;
-    for (const [name, callees] of calls) {
-      if (!out.has(name) && callees.some((c) => out.has(c))) {
-        out.add(name);
-        changed = true;
+  const known = new Map<string, boolean>();
+  const has = (name: string): boolean => {
+    const hit = known.get(name);
+    if (hit !== undefined) return hit;
+    if (direct.has(name)) return true;
+    if (!byName.has(name)) return false;
+    const seen = new Set<string>([name]);
+    const queue = [name];
+    while (queue.length > 0) {
+      const p = byName.get(queue.pop()!);
+      if (!p) continue;
+      for (const c of bodyCalls(p.body).calls) {
+        if (!c.statement) continue;
+        const callee = resolve.resolve(c.name)?.name ?? c.name;
+        if (direct.has(callee) || known.get(callee) === true) {
+          known.set(name, true);
+          return true;
+        }
+        if (seen.has(callee) || known.get(callee) === false) continue;
+        seen.add(callee);
+        queue.push(callee);
       }
     }
-  }
+    for (const n of seen) known.set(n, false);
+    return false;
+  };
+  const out: WithLoops = { has };
+  withLoopsCache.set(model, out);
   return out;
 }
 
