@@ -496,12 +496,25 @@ function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions,
   if (edits.length === 0) return ledgers.map(() => null);
   const after = analyzeSource({ ...input, model: undefined, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false });
   const afterLedgers = after.timeLoops.map((t) => t.ledger).filter((l): l is TimeLoopLedger => !!l);
-  return ledgers.map((l, k) => {
+  // The k-th ledger of a procedure before the edits is its k-th ledger after them (grouped by
+  // procedure once: a file of a thousand time loops must not search them per time loop).
+  const byProcedure = (list: TimeLoopLedger[]): Map<string, TimeLoopLedger[]> => {
+    const m = new Map<string, TimeLoopLedger[]>();
+    for (const l of list) {
+      const g = m.get(l.procedure.name);
+      if (g) g.push(l);
+      else m.set(l.procedure.name, [l]);
+    }
+    return m;
+  };
+  const before = byProcedure(ledgers);
+  const afterBy = byProcedure(afterLedgers);
+  // One list of the nests for every time loop (stepWork indexes a list once).
+  const nests = [...after.nests, ...after.externalNests];
+  return ledgers.map((l) => {
     if (!l.dataRegion || l.dataRegion.edits.length === 0) return null;
-    const same = afterLedgers.filter((a) => a.procedure.name === l.procedure.name);
-    const mine = ledgers.filter((x) => x.procedure.name === l.procedure.name).indexOf(ledgers[k]);
-    const match = same[mine];
-    const nests = [...after.nests, ...after.externalNests];
+    const mine = before.get(l.procedure.name)!.indexOf(l);
+    const match = afterBy.get(l.procedure.name)?.[mine];
     return match ? { ledger: match, work: stepWork(match, nests), nests } : null;
   });
 }

@@ -71,6 +71,15 @@ function nestPlace(a: FileAnalysis, n: NestReport, lineOf: (line: number) => num
   return n.nest.procedure.origin ? { path: n.nest.procedure.origin, line } : { path: a.path, line: lineOf(line) };
 }
 
+
+/** Nests by their cost record, made once per list (every time loop of a file reads the same lists). */
+const costIndexes = new WeakMap<readonly NestReport[], Map<NestReport['cost'], NestReport>>();
+function costIndex(list: readonly NestReport[]): Map<NestReport['cost'], NestReport> {
+  let m = costIndexes.get(list);
+  if (!m) costIndexes.set(list, (m = new Map(list.map((n) => [n.cost, n]))));
+  return m;
+}
+
 /** Seconds per step of each nest the step runs, on the device (kernels) or the host (code left in the loop, or every nest for the host-only step). */
 function secondsByNest(w: StepWork, p: MachineProfile, baseline: Baseline, hostOnly: boolean): Map<NestCost, number> {
   const out = new Map<NestCost, number>();
@@ -84,14 +93,14 @@ function planningStep(a: FileAnalysis, t: TimeLoopReport, all: NestReport[], edi
   const w = stepWork(t.ledger!, all);
   if (!w) return undefined;
   const p = a.profile;
-  const byCost = new Map(all.map((n) => [n.cost, n]));
+  const byCost = costIndex(all);
   const deviceStep = deviceStepSeconds(w, p, baseline);
   const hostStep = hostStepSeconds(w, p, baseline);
   const device = secondsByNest(w, p, baseline, false);
   const host = secondsByNest(w, p, baseline, true);
   const lineBack = editedLineToOriginal(edits);
   // The what-if analysis has nests of its own; they are matched to these by file and line.
-  const after = t.withRegion?.work ? { work: t.withRegion.work, nests: new Map(t.withRegion.nests.map((n) => [n.cost, n])) } : undefined;
+  const after = t.withRegion?.work ? { work: t.withRegion.work, nests: costIndex(t.withRegion.nests) } : undefined;
   const afterShare = new Map<string, number>();
   if (after) {
     const total = deviceStepSeconds(after.work, p, baseline);
