@@ -301,6 +301,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
             const job = await jobFor(uri, text, version, undefined);
             if (!job) return [];
             job.path = path;
+            job.firstViews = false;
             const cached = checkCache.lookup(job);
             if (cached) return cached.diagnostics;
             const view = await engine.analyze(job);

@@ -147,6 +147,11 @@ export class Expr {
 
   /** Builds an expression from terms that may repeat monomials or carry zero coefficients. */
   static of(terms: Iterable<Term>): Expr {
+    // One term or none (the most frequent case: a symbol, a constant) needs no merging table.
+    if (Array.isArray(terms) && terms.length <= 1) {
+      const list = terms as Term[];
+      return new Expr(list.length === 1 && !risZero(list[0].coef) ? [list[0]] : []);
+    }
     const map = new Map<string, Term>();
     for (const t of terms) {
       const prev = map.get(t.mono.key);
@@ -206,6 +211,12 @@ export function mulExprs(xs: readonly Expr[]): Expr {
   let acc = ONE;
   for (const x of xs) {
     if (x.terms.length === 0) return ZERO;
+    // A product with one: the other factor as it is (expressions are immutable).
+    if (x === ONE) continue;
+    if (acc === ONE) {
+      acc = x;
+      continue;
+    }
     const out: Term[] = [];
     for (const a of acc.terms) {
       for (const b of x.terms) out.push({ coef: rmul(a.coef, b.coef), mono: monoMul(a.mono, b.mono) });

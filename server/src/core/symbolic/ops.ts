@@ -29,8 +29,18 @@ export function num(n: number): Expr {
   return constant(ratFromNumber(n));
 }
 
+/** Symbols are made once per name (expressions are immutable, so one object serves every use). */
+const symbols = new Map<string, Expr>();
+const MAX_SYMBOLS = 1 << 16;
+
 export function sym(name: string): Expr {
-  return atomExpr(new Atom('sym', name, []));
+  let e = symbols.get(name);
+  if (!e) {
+    if (symbols.size >= MAX_SYMBOLS) symbols.clear();
+    e = atomExpr(new Atom('sym', name, []));
+    symbols.set(name, e);
+  }
+  return e;
 }
 
 export function add(...xs: Expr[]): Expr {

@@ -30,6 +30,8 @@ export interface AnalysisJob {
   /** Loop variables the user names as time-loop variables (setting `timeLoopVariables`). */
   timeLoopVariables?: string[];
   view: ViewOptions;
+  /** False for a file of the workspace check that is not open: nobody shows a first view of it. */
+  firstViews?: boolean;
   /** The workspace folder holding the document: messages name other files relative to it. */
   root?: string;
   /**
@@ -166,7 +168,8 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   // A first answer from the files the document reaches by name, when others still have no model:
   // a large project's first diagnostics do not wait for every file. It is not given when a time
   // loop here is entered from another file (its starting state needs that file's whole program).
-  if (hooks?.early && neighbours.some((n) => !warmModel(job, n))) {
+  const early = job.firstViews === false ? undefined : hooks?.early;
+  if (early && neighbours.some((n) => !warmModel(job, n))) {
     const { first, up } = firstNeighbours(job);
     if (first.length < neighbours.length) {
       const ws = first.length > 0 ? modelsOf(job, first, deps, total, hooks) : undefined;
@@ -175,7 +178,7 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
       checkCancelled(hooks);
       if (!(up && analysis.timeLoops.length > 0)) {
         linkAcrossFiles([analysis], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
-        hooks.early(view(analysis));
+        early(view(analysis));
       }
     }
   }
@@ -187,10 +190,10 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   // land here. Analysing a caller costs its whole time loop (every kernel it runs, in any file),
   // so the document's own findings go out first when there is one.
   const callers = callersOf(job, analysis, workspace);
-  if (hooks?.early && callers.length > 0) {
+  if (early && callers.length > 0) {
     const own = { ...analysis, findings: analysis.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
     linkAcrossFiles([own], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
-    hooks.early(view(own));
+    early(view(own));
   }
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers, hooks?.cancelled);
   checkCancelled(hooks);
