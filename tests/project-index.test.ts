@@ -233,3 +233,28 @@ describe('the first view of a document in a project', () => {
     expect(r.built).toBe(0);
   });
 });
+
+describe('a file sees the procedures of the workspace it reaches', () => {
+  it('keeps its callees and the chains calling it, every procedure of an ambiguous C++ name, and nothing else', async () => {
+    const g = await grammarsForTests();
+    const { buildModel } = await import('../server/src/core/analyze');
+    const { withWorkspace } = await import('../server/src/core/model/workspace');
+    const deps = { ...g, readInclude: () => undefined };
+    const files: [string, string][] = [
+      ['main.cpp', 'void run(double *u);\nint main() { double u[8]; for (int t = 0; t < 9; t++) run(u); return 0; }\n'],
+      ['run.cpp', 'void relax(double *u);\nvoid run(double *u) { relax(u); }\n'],
+      ['relax.cpp', 'struct W { void step(double *u); };\nvoid relax(double *u) { W w; w.step(u); }\n'],
+      ['a.cpp', 'struct A { void step(double *u); };\nvoid A::step(double *u) { u[0] = 1.0; }\n'],
+      ['b.cpp', 'struct B { void step(double *u); };\nvoid B::step(double *u) { u[1] = 2.0; }\n'],
+      ['tool.cpp', 'void tool(double *v) { v[0] = 0.0; }\n'],
+    ];
+    const models = files.map(([path, text]) => buildModel({ path, text, language: 'cpp' }, deps));
+    const names = (m: { procedures: { name: string; origin?: string }[] }): string[] => m.procedures.filter((p) => p.origin).map((p) => p.name).sort();
+    const relax = models[2];
+    // Down: `w.step` may be A::step or B::step (ambiguous in the workspace): both stay. Up: run, main.
+    expect(names(withWorkspace(relax, models, 'calls'))).toEqual(['A::step', 'B::step', 'main', 'run']);
+    expect(names(withWorkspace(relax, models, 'all'))).toEqual(['A::step', 'B::step', 'main', 'run', 'tool']);
+    // A file nothing calls and that calls nothing of the workspace sees none of it.
+    expect(names(withWorkspace(models[5], models, 'calls'))).toEqual([]);
+  });
+});

@@ -361,8 +361,18 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       // The file re-read with the workspace's modules: the same one offload model as it was built in.
       if (resolved !== built) result.model = oneOffloadModel(substituteIndexLocals(resolved), compiledModels.get(built) ?? []);
     }
-    // The model the analyses see: this file's, plus the procedures of the rest of the workspace.
-    const model = options.workspace && options.workspace.length > 0 ? withWorkspace(result.model, options.workspace) : result.model;
+    // The model the analyses see: this file's, plus the procedures of the rest of the workspace
+    // it reaches (what it calls, what calls it). A time loop here needs the whole program (its
+    // starting state runs from the program's entry, its step runs other files' nests), so the
+    // model is then widened to every procedure and the file's loops scanned again.
+    const ws = options.workspace && options.workspace.length > 0 ? options.workspace : undefined;
+    let model = ws ? withWorkspace(result.model, ws, options.programRun ? 'all' : 'calls') : result.model;
+    const scanOwn = (): ReturnType<typeof scanLoops> => scanLoops(model, { timeLoopVariables: options.timeLoopVariables, only: (p) => !p.origin });
+    let scan = scanOwn();
+    if (ws && !options.programRun && scan.timeLoops.length > 0) {
+      model = withWorkspace(result.model, ws, 'all');
+      scan = scanOwn();
+    }
     result.findings.push(...result.model.findings);
     result.directiveFamilies = [...new Set(result.model.directives.map((d) => d.family))].sort();
     const user = options.bindings ?? new Map<string, number>();
@@ -387,10 +397,9 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       }
       return b;
     };
-    // The file's own procedures first. The other files' loops matter only when a time loop here
-    // may run them (their nests are costed for its step); without one they are not scanned, so a
-    // file of a large workspace costs its own size, not the project's.
-    const scan = scanLoops(model, { timeLoopVariables: options.timeLoopVariables, only: (p) => !p.origin });
+    // The other files' loops matter only when a time loop here may run them (their nests are
+    // costed for its step); without one they are not scanned, so a file of a large workspace
+    // costs its own size, not the project's.
     if ((scan.timeLoops.length > 0 || options.programRun) && model.procedures.some((p) => p.origin)) {
       const rest = scanLoops(model, { timeLoopVariables: options.timeLoopVariables, only: (p) => !!p.origin });
       scan.nests.push(...rest.nests);

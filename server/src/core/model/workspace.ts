@@ -16,6 +16,7 @@
 import type { Expr } from '../symbolic';
 import type { Directive } from '../types';
 import type { Declaration, ElementType, Procedure, ProgramModel } from './program';
+import { bodyCalls } from './callees';
 
 /** What a named unit (a Fortran module) makes visible to the files that use it. */
 export interface ModuleExports {
@@ -149,19 +150,67 @@ function asOrigin(other: ProgramModel): Procedure[] {
   return list;
 }
 
-export function withWorkspace(model: ProgramModel, others: readonly ProgramModel[]): ProgramModel {
+/**
+ * The calls of one file's procedures (as the workspace shows them) by the last part of the called
+ * name, and who calls by each last part: made once per model and shared by every file.
+ */
+interface CallIndex {
+  /** Procedures by the last part of their name. */
+  byLast: Map<string, Procedure[]>;
+  /** Procedures making a call whose name ends in that last part. */
+  callers: Map<string, Procedure[]>;
+}
+const callIndexes = new WeakMap<readonly Procedure[], CallIndex>();
+const lastPart = (name: string): string => name.split(/::|\.|->/).pop() ?? name;
+const push = <K, V>(m: Map<K, V[]>, k: K, v: V): void => {
+  const list = m.get(k);
+  if (list) list.push(v);
+  else m.set(k, [v]);
+};
+function callIndex(procs: readonly Procedure[]): CallIndex {
+  let ix = callIndexes.get(procs);
+  if (!ix) {
+    ix = { byLast: new Map(), callers: new Map() };
+    for (const p of procs) {
+      push(ix.byLast, lastPart(p.name), p);
+      const seen = new Set<string>();
+      for (const c of bodyCalls(p.body).calls) {
+        const l = lastPart(c.name);
+        if (seen.has(l)) continue;
+        seen.add(l);
+        push(ix.callers, l, p);
+      }
+    }
+    callIndexes.set(procs, ix);
+  }
+  return ix;
+}
+
+/**
+ * `reach: 'calls'` keeps, of the other files' procedures, only those the file's own procedures
+ * reach: what they call (and what that calls), and the chains that call them (whose arguments
+ * give their sizes), with every procedure sharing a called name's last part (so a C++ call that
+ * is ambiguous in the whole workspace stays ambiguous). That is all a file without a time loop
+ * needs; a time loop needs `'all'` (its starting state runs the program from its entry). Globals
+ * and constants of every file are kept either way.
+ */
+export function withWorkspace(model: ProgramModel, others: readonly ProgramModel[], reach: 'all' | 'calls' = 'all'): ProgramModel {
   const index = indexFor(model, others);
   const self = resolve(model, index, new Set());
   const own = new Set(self.procedures.map((p) => p.name));
   const globals = new Set(self.globals.map((g) => g.name));
   const merged: ProgramModel = { ...self, procedures: [...self.procedures], globals: [...self.globals], floatConstants: new Map(self.floatConstants) };
+  const resolved: ProgramModel[] = [];
   for (const original of others) {
     if (original.path === model.path || family(original.language) !== family(model.language)) continue;
-    const other = resolve(original, index, new Set());
+    resolved.push(resolve(original, index, new Set()));
+  }
+  const kept = reach === 'calls' ? reached(self.procedures, resolved.map((o) => callIndex(asOrigin(o)))) : undefined;
+  for (const other of resolved) {
     for (const p of asOrigin(other)) {
       if (own.has(p.name)) continue;
       own.add(p.name);
-      merged.procedures.push(p);
+      if (!kept || kept.has(p)) merged.procedures.push(p);
     }
     for (const g of other.globals) {
       if (globals.has(g.name)) continue;
@@ -171,4 +220,43 @@ export function withWorkspace(model: ProgramModel, others: readonly ProgramModel
     for (const [k, v] of other.floatConstants) if (!merged.floatConstants.has(k)) merged.floatConstants.set(k, v);
   }
   return merged;
+}
+
+/** The other files' procedures the own ones reach down their calls and up their callers. */
+function reached(ownProcs: readonly Procedure[], indexes: readonly CallIndex[]): Set<Procedure> {
+  const kept = new Set<Procedure>();
+  // Down: every procedure whose name's last part a reached procedure calls.
+  const names = new Set<string>();
+  const down: Procedure[] = [...ownProcs];
+  while (down.length > 0) {
+    const p = down.pop()!;
+    for (const c of bodyCalls(p.body).calls) {
+      const l = lastPart(c.name);
+      if (names.has(l)) continue;
+      names.add(l);
+      for (const ix of indexes) {
+        for (const q of ix.byLast.get(l) ?? []) {
+          if (kept.has(q)) continue;
+          kept.add(q);
+          down.push(q);
+        }
+      }
+    }
+  }
+  // Up: every procedure calling a name of an own procedure (or of a caller found so far).
+  const called = new Set<string>();
+  const up: Procedure[] = [...ownProcs];
+  while (up.length > 0) {
+    const l = lastPart(up.pop()!.name);
+    if (called.has(l)) continue;
+    called.add(l);
+    for (const ix of indexes) {
+      for (const q of ix.callers.get(l) ?? []) {
+        // Callers' own callees are not needed: only their arguments and their callers.
+        if (!kept.has(q)) kept.add(q);
+        up.push(q);
+      }
+    }
+  }
+  return kept;
 }
