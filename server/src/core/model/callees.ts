@@ -7,7 +7,8 @@
 import type { Procedure, ProgramModel, Stmt, VExpr } from './program';
 import { forEachCallInValue, valuesOfStatement, walkStatements } from './values';
 
-const lastPart = (name: string): string => name.split(/::|\.|->/).pop() ?? name;
+/** The last component of a C++ name (`Wave::step`, `w.step`, `p->step` → `step`). */
+export const lastPart = (name: string): string => name.split(/::|\.|->/).pop() ?? name;
 
 export class Callees {
   private readonly exact = new Map<string, Procedure>();

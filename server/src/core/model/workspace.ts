@@ -16,7 +16,7 @@
 import type { Expr } from '../symbolic';
 import type { Directive } from '../types';
 import type { Declaration, ElementType, Procedure, ProgramModel } from './program';
-import { bodyCalls } from './callees';
+import { bodyCalls, lastPart } from './callees';
 
 /** What a named unit (a Fortran module) makes visible to the files that use it. */
 export interface ModuleExports {
@@ -161,7 +161,6 @@ interface CallIndex {
   callers: Map<string, Procedure[]>;
 }
 const callIndexes = new WeakMap<readonly Procedure[], CallIndex>();
-const lastPart = (name: string): string => name.split(/::|\.|->/).pop() ?? name;
 const push = <K, V>(m: Map<K, V[]>, k: K, v: V): void => {
   const list = m.get(k);
   if (list) list.push(v);

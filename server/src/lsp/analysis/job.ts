@@ -77,8 +77,12 @@ function checkCancelled(hooks: JobHooks | undefined): void {
 
 type Neighbour = NonNullable<AnalysisJob['neighbours']>[number];
 
+/** The options that shape a neighbour's model, as a cache key (made once per neighbour of a job). */
+const flagKeys = new WeakMap<Neighbour, string>();
 function flagsOf(job: AnalysisJob, n: Neighbour): string {
-  return JSON.stringify([n.preprocess ?? job.preprocess ?? null, job.bindings, job.timeLoopVariables ?? null, n.language]);
+  let key = flagKeys.get(n);
+  if (key === undefined) flagKeys.set(n, (key = JSON.stringify([n.preprocess ?? job.preprocess ?? null, job.bindings, job.timeLoopVariables ?? null, n.language])));
+  return key;
 }
 
 /** The warm model of a neighbour, when its text and flags are those of the cache. */
