@@ -25,7 +25,6 @@ export function linkCallers(
   callers: number[] = callersOf(job, analysis, workspace), cancelled?: () => boolean,
 ): void {
   const neighbours = job.neighbours ?? [];
-  const textOf = (p: string): string | undefined => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text);
   const analyses: FileAnalysis[] = [];
   for (const k of callers) {
     const m = workspace![k];
@@ -38,7 +37,17 @@ export function linkCallers(
       ...analyzeOptions({ ...job, preprocess: n.preprocess ?? job.preprocess }), ...(cancelled ? { cancelled } : {}), workspace: others, whatIf: false,
     }));
   }
-  linkAcrossFiles([analysis, ...analyses], textOf, neighbours.map((n) => n.path), job.root);
+  linkInJob(job, [analysis, ...analyses]);
+}
+
+/**
+ * Links findings placed at calls with the other end (crossFile.ts) among the job's files: texts
+ * are the document's and its neighbours', other files are named from the job's root.
+ */
+export function linkInJob(job: AnalysisJob, analyses: FileAnalysis[]): void {
+  const neighbours = job.neighbours ?? [];
+  const textOf = (p: string): string | undefined => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text);
+  linkAcrossFiles(analyses, textOf, neighbours.map((n) => n.path), job.root);
 }
 
 /** True when a procedure of the model calls one of `names` (as a statement or inside an expression). */

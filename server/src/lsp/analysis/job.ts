@@ -4,7 +4,6 @@
  */
 import { performance } from 'node:perf_hooks';
 import { AnalysisCancelled, analyzeSource, buildModel, type AnalyzeDeps, type AnalyzeOptions, type FileAnalysis } from '../../core/analyze';
-import { linkAcrossFiles } from '../../core/project/crossFile';
 import { filesNeeded, lexiconOf, type Lexicon } from '../../core/project/lexicon';
 import type { ProgramModel } from '../../core/model/program';
 import type { NeighbourSource } from './neighbours';
@@ -13,7 +12,7 @@ import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
 import { buildView } from '../view/build';
-import { callersOf, linkCallers } from './callers';
+import { callersOf, linkCallers, linkInJob } from './callers';
 import type { DocumentView, ViewOptions } from '../view/types';
 
 export interface AnalysisJob {
@@ -181,7 +180,7 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
       const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), ...cancelled, workspace: ws });
       checkCancelled(hooks);
       if (!(up && analysis.timeLoops.length > 0)) {
-        linkAcrossFiles([analysis], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
+        linkInJob(job, [analysis]);
         early(view(analysis));
       }
     }
@@ -196,7 +195,7 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   const callers = callersOf(job, analysis, workspace);
   if (early && callers.length > 0) {
     const own = { ...analysis, findings: analysis.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
-    linkAcrossFiles([own], (p) => (p === job.path ? job.text : neighbours.find((n) => n.path === p)?.text), neighbours.map((n) => n.path), job.root);
+    linkInJob(job, [own]);
     early(view(own));
   }
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers, hooks?.cancelled);
