@@ -17,3 +17,8 @@ export { buildPlanning, hasEstimates } from './lsp/view/planning';
 export { renderPlanning } from './planning/render';
 // The editor's analysis job (benchmarks time the first and final views of a project file).
 export { runJob, modelCacheStats } from './lsp/analysis/job';
+// The editing path (tests and benchmarks compare it with whole-file analyses).
+export { analyzeEdit, incrementalStats } from './core/incremental';
+export { editStats } from './lsp/analysis/job';
+export { fileReport } from './core/report';
+export { buildView } from './lsp/view/build';

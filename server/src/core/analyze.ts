@@ -90,6 +90,12 @@ export interface AnalyzeOptions extends PreprocessSettings {
   projectRoot?: string;
   /** Loop variables the user names as time-loop variables (`--time-loop iter`); default none. */
   timeLoopVariables?: readonly string[];
+  /**
+   * Internal (the editor's re-analysis of one part of a file, core/incremental.ts): the nests of
+   * the rest of the file, whose strides shape a linearised array of the same name as they do in a
+   * whole-file analysis. Merged with this analysis's own nests in source order.
+   */
+  outsideNests?: readonly NestReport[];
 }
 
 /** The program model of one file (what `analyzeSource` starts from); never throws. */
@@ -198,7 +204,7 @@ function oneOffloadModel(model: ProgramModel, models: readonly DirectiveFamily[]
  * parameter, member path in a size or bound, or trip-count symbol of this file (Fortran names
  * match in any case). A typo in `--bind` would otherwise be ignored silently.
  */
-function unmatchedBindings(model: ProgramModel, user: ReadonlyMap<string, number>): string[] {
+export function unmatchedBindings(model: ProgramModel, user: ReadonlyMap<string, number>): string[] {
   const names = new Set<string>(model.bindings.keys());
   const addExpr = (e: S.Expr | undefined): void => { if (e) for (const x of S.freeSymbols(e)) names.add(x); };
   for (const g of model.globals) { names.add(g.name); g.dims.forEach(addExpr); addExpr(g.elementCount); }
@@ -426,7 +432,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
     const ownTimeLoops = scan.timeLoops.filter((t) => !t.procedure.origin);
     const allNests = external.length > 0 ? [...result.nests, ...external] : result.nests;
     const strides = new Map<string, S.Expr[][]>();
-    for (const r of allNests) {
+    for (const r of options.outsideNests ? [...inSourceOrder([...result.nests, ...options.outsideNests]), ...external] : allNests) {
       for (const f of r.cost.footprints) strides.set(f.array, [...(strides.get(f.array) ?? []), f.strides]);
     }
     const data = dataLedger(model, input.text, ownTimeLoops, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? [], {
@@ -471,11 +477,17 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
   return result;
 }
 
+/** Nest reports in source order (the order a scan of the file finds them). */
+export function inSourceOrder(list: readonly NestReport[]): NestReport[] {
+  const at = (r: NestReport): Range['start'] => r.nest.root.keywordRange.start;
+  return [...list].sort((a, b) => at(a).line - at(b).line || at(a).col - at(b).col);
+}
+
 /**
  * A fix that would leave the text as it is (`u[0:n]` replaced by `u[0:n]`) is no fix: it is
  * dropped, whatever produced it. Lines are split once, and only when some fix replaces text.
  */
-function dropNoOpFixes(findings: Finding[], text: string): void {
+export function dropNoOpFixes(findings: Finding[], text: string): void {
   let lines: string[] | undefined;
   const slice = (r: Range): string | undefined => {
     lines ??= text.split('\n');
@@ -532,7 +544,7 @@ function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions,
  * One `unknown-extent` finding per unbound symbol, at its first use, naming every loop it leaves
  * symbolic and how to bind it. One finding per symbol (not per loop) keeps the list readable.
  */
-function unknownExtentFindings(a: FileAnalysis): Finding[] {
+export function unknownExtentFindings(a: FileAnalysis): Finding[] {
   const uses = new Map<string, { lines: number[]; first: NestReport | TimeLoopReport }>();
   const note = (sym: string, line: number, r: NestReport | TimeLoopReport): void => {
     const u = uses.get(sym) ?? { lines: [], first: r };

@@ -12,6 +12,7 @@ import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
 import { buildView } from '../view/build';
+import { type EditBase, analyzeEdit } from '../../core/incremental';
 import { callersOf, linkCallers, linkInJob } from './callers';
 import type { DocumentView, ViewOptions } from '../view/types';
 
@@ -187,7 +188,7 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   }
   const workspace = neighbours.length > 0 ? modelsOf(job, neighbours, deps, total, hooks) : undefined;
   checkCancelled(hooks);
-  const analysis = analyzeSource({ path: job.path, text: job.text, language: job.language }, deps, { ...analyzeOptions(job), ...cancelled, workspace });
+  const analysis = analyseDocument(job, deps, { ...analyzeOptions(job), ...cancelled, workspace });
   checkCancelled(hooks);
   // Findings that span two files: linked to the other end, and those of callers' time loops that
   // land here. Analysing a caller costs its whole time loop (every kernel it runs, in any file),
@@ -201,4 +202,54 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers, hooks?.cancelled);
   checkCancelled(hooks);
   return view(analysis);
+}
+
+/**
+ * The last whole analysis of each document (per thread), with the inputs it was made from: an
+ * edit of the same document with the same inputs re-analyses only the part of the file the edit
+ * touches (core/incremental.ts). Bounded like the model cache.
+ */
+const documentBases = new Map<string, { inputs: string; workspace: readonly ProgramModel[] | undefined; base: EditBase }>();
+
+/** Counters of the editing path (per thread), for the debug request and the benchmark. */
+export const editStats = { parts: 0, wholeFiles: 0, lastProcedures: 0 };
+
+/** What besides the text shapes a document's analysis (the options of analyzeOptions). */
+function inputsOf(job: AnalysisJob): string {
+  return JSON.stringify([job.path, job.language, job.bindings, job.preprocess ?? null, job.profile ?? null, job.baseline, job.timeLoopVariables ?? null, job.root ?? null]);
+}
+
+/**
+ * The document's analysis: from the last one by re-analysing the edited part when it can be, else
+ * of the whole file. The result is the caller's to change (linking adds findings and related
+ * locations); the kept base is not shared with it.
+ */
+function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOptions): FileAnalysis {
+  const input = { path: job.path, text: job.text, language: job.language };
+  const inputs = inputsOf(job);
+  const ws = options.workspace;
+  const kept = documentBases.get(job.path);
+  const sameWorkspace = kept !== undefined && kept.inputs === inputs && (kept.workspace ?? []).length === (ws ?? []).length && (ws ?? []).every((m, i) => kept.workspace![i] === m);
+  let base: EditBase | undefined;
+  if (sameWorkspace) {
+    const edit = analyzeEdit(kept.base, input, deps, options);
+    if (edit) {
+      base = edit.base;
+      editStats.parts++;
+      editStats.lastProcedures = edit.procedures;
+    }
+  }
+  if (!base) {
+    base = { text: job.text, analysis: analyzeSource(input, deps, options) };
+    editStats.wholeFiles++;
+  }
+  if (!documentBases.has(job.path) && documentBases.size >= MAX_CACHED_MODELS) documentBases.delete(documentBases.keys().next().value!);
+  documentBases.set(job.path, { inputs, workspace: ws, base });
+  const a = base.analysis;
+  return { ...a, findings: a.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
+}
+
+/** Drops every kept analysis (tests: a cold job after warm ones). */
+export function forgetDocuments(): void {
+  documentBases.clear();
 }
