@@ -78,6 +78,8 @@ describe('typing into a generated file (debounce 0)', () => {
   }, LONG);
 
   it('the same text re-sent is answered from the last analysis, without the engine', async () => {
+    // The diagnostics go out before the rest of the view is built: a lens request waits for the view.
+    await c.request<unknown[]>('textDocument/codeLens', { textDocument: { uri } });
     const before = await stats(c);
     const previous = c.published.filter((p) => p.uri === uri).at(-1)!;
     version++;
@@ -116,11 +118,13 @@ describe('a project of sibling files', () => {
     expect(indexing).toBeGreaterThanOrEqual(0);
     expect(states[indexing]).toMatchObject({ done: 0, total: 2 });
     expect(states.findIndex((s) => s.state === 'ready')).toBeGreaterThan(indexing);
+    await c.request<unknown[]>('textDocument/codeLens', { textDocument: { uri } });
     const first = await stats(c);
     expect(first.engine.modelsBuilt).toBe(1);
 
     c.change(uri, 2, `${text}\n/* an edit */\n`);
     await c.waitForDiagnostics(uri, (p) => p.version === 2, LONG);
+    await c.request<unknown[]>('textDocument/codeLens', { textDocument: { uri } });
     const second = await stats(c);
     expect(second.engine.modelsBuilt).toBe(1);
     expect(second.engine.modelHits).toBeGreaterThan(first.engine.modelHits);

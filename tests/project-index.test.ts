@@ -227,10 +227,13 @@ describe('the first view of a document in a project', () => {
     expect(codes(r.early!)).toEqual(codes(r.final));
   });
 
-  it('a file nothing calls and that calls nothing of the project: one view, no early one, once warm', () => {
+  it('a file nothing calls and that calls nothing of the project: once warm, its diagnostics go out first (no caller to wait for), then the full view', () => {
     const r = run(job('tool3.c'));
-    expect(r.earlies).toBe(0);
+    expect(r.earlies).toBe(1);
     expect(r.built).toBe(0);
+    expect(r.early!.diagnostics).toEqual(r.final.diagnostics);
+    // The early view carries the diagnostics only.
+    expect(r.early!.cards).toEqual([]);
   });
 });
 

@@ -85,6 +85,8 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     if (lastProject?.state === 'ready' && lastProject.files === known.size) return;
     projectStatus({ state: 'ready', files: known.size });
   };
+  /** The diagnostics an early view published, per document (the final view does not send them again). */
+  const earlyDiagnostics = new Map<string, { version: number; json: string }>();
   const engine = options.engine ?? defaultEngine({
     onCrash: (reason) => log(`the analysis worker stopped (${reason}); a new one takes the next job`),
     onStart: (n, threadId) => log(`analysis worker started (#${n}, thread ${threadId})`),
@@ -95,6 +97,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     // own view replaces them (hovers and fixes wait for that one).
     onEarly: (view) => {
       if (documents.get(view.uri)?.version !== view.version || scheduler.latest(view.uri)?.version === view.version) return;
+      earlyDiagnostics.set(view.uri, { version: view.version, json: JSON.stringify(view.diagnostics) });
       void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });
     },
   });
@@ -163,7 +166,12 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     currentVersion: (uri) => documents.get(uri)?.version,
     onView: (view) => {
       for (const e of view.internalErrors) log(`internal error while analysing ${view.planning.path}: ${e}`);
-      void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });
+      // The final view's diagnostics are sent unless an early view of the same version sent the same ones.
+      const early = earlyDiagnostics.get(view.uri);
+      earlyDiagnostics.delete(view.uri);
+      if (!early || early.version !== view.version || early.json !== JSON.stringify(view.diagnostics)) {
+        void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });
+      }
       projectReady();
     },
     onError: (uri, e) => {
@@ -241,6 +249,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
   });
   documents.onDidClose((e) => {
     opened.delete(e.document.uri);
+    earlyDiagnostics.delete(e.document.uri);
     scheduler.forget(e.document.uri);
     void connection.sendDiagnostics({ uri: e.document.uri, diagnostics: [] });
   });

@@ -76,8 +76,8 @@ const OFFLOAD_F = /^\s*!\$(acc\b|omp\s+(target|declare\s+target)\b)/i;
 /** The offload models whose directives the text holds (in any branch). */
 export function modelsInText(text: string): DirectiveModel[] {
   const out: DirectiveModel[] = [];
-  if (/^\s*(#\s*pragma\s+acc\b|!\$acc\b)/im.test(text) || PRAGMA_OPERATOR('acc').test(text)) out.push('openacc');
-  if (/^\s*(#\s*pragma\s+omp\b|!\$omp\b)/im.test(text) || PRAGMA_OPERATOR('omp').test(text) || /\bOMP_TARGET\s*\(/.test(text)) out.push('openmp');
+  if (/^[ \t\f\v]*(#\s*pragma\s+acc\b|!\$acc\b)/im.test(text) || PRAGMA_OPERATOR('acc').test(text)) out.push('openacc');
+  if (/^[ \t\f\v]*(#\s*pragma\s+omp\b|!\$omp\b)/im.test(text) || PRAGMA_OPERATOR('omp').test(text) || /\bOMP_TARGET\s*\(/.test(text)) out.push('openmp');
   return out;
 }
 
@@ -87,8 +87,8 @@ export function modelsInText(text: string): DirectiveModel[] {
  * when the file has no OpenMP offload lines at all.
  */
 function majorityModel(text: string): DirectiveModel {
-  const acc = (text.match(/^\s*(#\s*pragma\s+acc\b|!\$acc\b)/gim) ?? []).length;
-  const omp = (text.match(/^\s*(#\s*pragma\s+omp\s+(target|declare\s+target|begin\s+declare\s+target|end\s+declare\s+target)\b|!\$omp\s+(end\s+)?(target|declare\s+target)\b)/gim) ?? []).length;
+  const acc = (text.match(/^[ \t\f\v]*(#\s*pragma\s+acc\b|!\$acc\b)/gim) ?? []).length;
+  const omp = (text.match(/^[ \t\f\v]*(#\s*pragma\s+omp\s+(target|declare\s+target|begin\s+declare\s+target|end\s+declare\s+target)\b|!\$omp\s+(end\s+)?(target|declare\s+target)\b)/gim) ?? []).length;
   return omp > acc ? 'openmp' : 'openacc';
 }
 

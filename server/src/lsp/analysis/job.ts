@@ -11,7 +11,7 @@ import { readHeader } from '../../host/files';
 import type { Baseline } from '../../core/estimate/types';
 import type { MachineProfile } from '../../core/machine/profiles';
 import type { SourceLanguage } from '../../core/types';
-import { buildView } from '../view/build';
+import { buildDiagnosticsView, buildView } from '../view/build';
 import { type EditBase, analyzeEdit } from '../../core/incremental';
 import { callersOf, linkCallers, linkInJob } from './callers';
 import type { DocumentView, ViewOptions } from '../view/types';
@@ -165,10 +165,12 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   const deps: AnalyzeDeps = { ...grammars, readInclude: readHeader };
   const neighbours = job.neighbours ?? [];
   const total = neighbours.length + 1;
-  const view = (analysis: FileAnalysis): DocumentView => buildView(
-    { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: performance.now() - t0 },
-    job.view,
+  const viewInput = (analysis: FileAnalysis) => (
+    { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: performance.now() - t0 }
   );
+  const view = (analysis: FileAnalysis): DocumentView => buildView(viewInput(analysis), job.view);
+  // Early views carry the diagnostics only (the server publishes nothing else of them).
+  const firstView = (analysis: FileAnalysis): DocumentView => buildDiagnosticsView(viewInput(analysis), job.view);
   // A first answer from the files the document reaches by name, when others still have no model:
   // a large project's first diagnostics do not wait for every file. It is not given when a time
   // loop here is entered from another file (its starting state needs that file's whole program).
@@ -182,7 +184,7 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
       checkCancelled(hooks);
       if (!(up && analysis.timeLoops.length > 0)) {
         linkInJob(job, [analysis]);
-        early(view(analysis));
+        early(firstView(analysis));
       }
     }
   }
@@ -197,7 +199,12 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   if (early && callers.length > 0) {
     const own = { ...analysis, findings: analysis.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
     linkInJob(job, [own]);
-    early(view(own));
+    early(firstView(own));
+  } else if (early) {
+    // No caller adds findings here: the diagnostics are final now (linking again below changes
+    // nothing), and they go out before the rest of the view is built.
+    linkInJob(job, [analysis]);
+    early(firstView(analysis));
   }
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers, hooks?.cancelled);
   checkCancelled(hooks);

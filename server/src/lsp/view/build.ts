@@ -20,6 +20,24 @@ export interface ViewInput {
   analysisMilliseconds: number;
 }
 
+/**
+ * A view with the diagnostics only, for a first publication (the server publishes nothing else of
+ * an early view): the findings are shown as soon as the analysis ends, and the hovers, lenses,
+ * hints, fixes and refactors of the full view follow.
+ */
+export function buildDiagnosticsView(input: ViewInput, o: ViewOptions): DocumentView {
+  const diagnostics: Diagnostic[] = [];
+  for (const f of input.analysis.findings) {
+    const d = toDiagnostic(f, o.severity, o.docsHref);
+    if (d) diagnostics.push(d);
+  }
+  return {
+    uri: input.uri, version: input.version, diagnostics, hovers: {}, cards: [], lenses: [], inlayHints: [], actions: [], refactors: [],
+    planning: buildPlanning({ ...input.analysis, timeLoops: [], nests: [] }, input.uri), estimatesAvailable: false,
+    internalErrors: input.analysis.internalErrors.map((e) => e.split('\n')[0]), analysisMilliseconds: input.analysisMilliseconds,
+  };
+}
+
 export function buildView(input: ViewInput, o: ViewOptions): DocumentView {
   const a = input.analysis;
   const diagnostics: Diagnostic[] = [];
