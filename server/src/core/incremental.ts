@@ -58,6 +58,14 @@ function whole(reason: string): undefined {
 const partCache = new Map<string, FileAnalysis>();
 const PART_CACHE = 8;
 
+/** The names each procedure shares with others, per set of shared names (a procedure object is one text). */
+const tokenCache = new WeakMap<Procedure, { shared: number; tokens: Set<string> }>();
+let lastShared = { key: '', id: 0 };
+function sharedSetId(key: string): number {
+  if (key !== lastShared.key) lastShared = { key, id: lastShared.id + 1 };
+  return lastShared.id;
+}
+
 const PREPROCESSOR_OR_DIRECTIVE = /^\s*#|!\$|pragma|_Pragma|^\s*[cC*]\$/i;
 
 /** What in a line can change how the lines around it parse: brackets, quotes, comment marks, continuations. */
@@ -141,23 +149,32 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
   const oldLines = base.text.split('\n');
   const newLines = input.text.split('\n');
   if (oldLines.length !== newLines.length) return whole('lines added or removed');
-  let first = 0;
-  while (first < oldLines.length && oldLines[first] === newLines[first]) first++;
-  if (first === oldLines.length) return { base, procedures: 0 };
-  let last = oldLines.length - 1;
-  while (last > first && oldLines[last] === newLines[last]) last--;
-  const oldChanged = oldLines.slice(first, last + 1);
-  const newChanged = newLines.slice(first, last + 1);
+  // The lines that differ (the same count: every other line keeps its place).
+  const changed: number[] = [];
+  for (let l = 0; l < oldLines.length; l++) if (oldLines[l] !== newLines[l]) changed.push(l);
+  if (changed.length === 0) return { base, procedures: 0 };
   const fortran = input.language === 'fortran';
-  if ([...oldChanged, ...newChanged].some((l) => PREPROCESSOR_OR_DIRECTIVE.test(l))) return whole('a preprocessor or directive line');
-  if (structure(oldChanged, fortran) !== structure(newChanged, fortran)) return whole('brackets, quotes or comments');
+  if (changed.some((l) => PREPROCESSOR_OR_DIRECTIVE.test(oldLines[l]) || PREPROCESSOR_OR_DIRECTIVE.test(newLines[l]))) return whole('a preprocessor or directive line');
 
   // The file's own procedures, which must not overlap (a Fortran internal procedure lies inside its host).
   const own = a0.model.procedures.filter((p) => !p.origin);
+  const index = new Map(own.map((p, i) => [p, i]));
   const byStart = [...own].sort((p, q) => p.range.start.line - q.range.start.line);
   for (let i = 1; i < byStart.length; i++) if (byStart[i].range.start.line <= byStart[i - 1].range.end.line) return whole('procedures share lines');
-  const edited = own.find((p) => p.range.start.line < first && last < p.range.end.line);
-  if (!edited) return whole('an edit outside one procedure body');
+  // Every changed line lies inside the body of a procedure (not on its first or last line), and
+  // the brackets, quotes and comment marks of each procedure's changed lines are as they were.
+  const edited = new Map<number, number[]>();
+  let k = 0;
+  for (const l of changed) {
+    while (k < byStart.length && byStart[k].range.end.line <= l) k++;
+    const p = byStart[k];
+    if (!p || !(p.range.start.line < l && l < p.range.end.line)) return whole('an edit outside one procedure body');
+    const i = index.get(p)!;
+    edited.set(i, [...(edited.get(i) ?? []), l]);
+  }
+  for (const lines of edited.values()) {
+    if (structure(lines.map((l) => oldLines[l]), fortran) !== structure(lines.map((l) => newLines[l]), fortran)) return whole('brackets, quotes or comments');
+  }
 
   // The names a procedure shares with others: procedures, file-level variables, other files' names.
   const norm = (s: string): string => (fortran ? s.toLowerCase() : s);
@@ -168,7 +185,10 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
     for (const p of m.procedures) for (const part of p.name.split('::')) shared.add(norm(part));
     for (const g of m.globals) shared.add(norm(g.name));
   }
-  const tokensOf = (p: Procedure, lines: readonly string[]): Set<string> => {
+  const sharedId = sharedSetId([...shared].sort().join('\n'));
+  const tokensOf = (p: Procedure, lines: readonly string[], cache: boolean): Set<string> => {
+    const hit = cache ? tokenCache.get(p) : undefined;
+    if (hit && hit.shared === sharedId) return hit.tokens;
     const hidden = new Set([...p.params, ...p.locals].map((d) => norm(d.name)));
     const out = new Set<string>(p.name.split('::').map(norm));
     for (let l = p.range.start.line; l <= p.range.end.line; l++) {
@@ -177,23 +197,28 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
         if (shared.has(t) && !hidden.has(t)) out.add(t);
       }
     }
+    if (cache) tokenCache.set(p, { shared: sharedId, tokens: out });
     return out;
   };
-  const tokens = own.map((p) => tokensOf(p, oldLines));
-  const part = new Set<number>([own.indexOf(edited)]);
-  const partTokens = new Set(tokens[own.indexOf(edited)]);
+  // The procedures of the base keep their objects while unchanged, so their names are read once.
+  const tokens = own.map((p) => tokensOf(p, oldLines, true));
+  const part = new Set<number>(edited.keys());
+  const partTokens = new Set<string>();
+  for (const i of part) for (const t of tokens[i]) partTokens.add(t);
   for (let grew = true; grew;) {
     grew = false;
     own.forEach((_, i) => {
-      if (part.has(i) || ![...tokens[i]].some((t) => partTokens.has(t))) return;
+      if (part.has(i)) return;
+      let touches = false;
+      for (const t of tokens[i]) if (partTokens.has(t)) touches = true;
+      if (!touches) return;
       part.add(i);
       for (const t of tokens[i]) partTokens.add(t);
       grew = true;
     });
   }
-  // The edited procedure may now name something of another part: then the parts join.
-  const editedNow = tokensOf(edited, newLines);
-  for (const t of editedNow) if (!partTokens.has(t)) return whole('the edit reaches another part');
+  // An edited procedure may now name something of another part: then the parts join.
+  for (const i of edited.keys()) for (const t of tokensOf(own[i], newLines, false)) if (!partTokens.has(t)) return whole('the edit reaches another part');
   let partLines = 0;
   for (const i of part) partLines += own[i].range.end.line - own[i].range.start.line + 1;
   if (part.size === own.length || partLines * 2 > oldLines.length) return whole('the part is most of the file');
@@ -209,8 +234,8 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
   const blanked = (lines: readonly string[]): string => lines.map((l, i) => (blank[i] ? '' : l)).join('\n');
   const outside = inSourceOrder(a0.nests.filter((n) => !inPart(n.nest.procedure)));
   function inPart(p: Procedure): boolean {
-    const i = own.indexOf(p);
-    return i >= 0 ? part.has(i) : own.some((q, j) => part.has(j) && q.name === p.name && q.range.start.line === p.range.start.line);
+    const i = index.get(p);
+    return i !== undefined ? part.has(i) : own.some((q, j) => part.has(j) && q.name === p.name && q.range.start.line === p.range.start.line);
   }
   const partOptions: AnalyzeOptions = { ...options, baseline: a0.baseline, outsideNests: outside };
   const analysePart = (text: string): FileAnalysis => {

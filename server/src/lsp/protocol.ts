@@ -97,6 +97,9 @@ export interface EngineCounters {
   /** Models of other project files built, and found unchanged in the cache, by the analysis thread. */
   modelsBuilt: number;
   modelHits: number;
+  /** Document analyses made from the last one by re-analysing only the edited part, and whole-file ones. */
+  editsByPart: number;
+  wholeAnalyses: number;
 }
 
 export interface DebugStats {

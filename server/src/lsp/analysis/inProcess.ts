@@ -6,7 +6,7 @@
 import { loadGrammars, type Grammars } from '../../grammars';
 import type { DocumentView } from '../view/types';
 import { type AnalysisEngine, type EngineEvents, type EngineStats, Superseded } from './engine';
-import { type AnalysisJob, modelCacheStats, runJob } from './job';
+import { type AnalysisJob, editStats, modelCacheStats, runJob } from './job';
 
 interface Pending {
   job: AnalysisJob;
@@ -20,13 +20,13 @@ export class InProcessEngine implements AnalysisEngine {
   private running = false;
   private grammars: Promise<Grammars> | undefined;
   private readonly counters: EngineStats = {
-    kind: 'in-process', workerStarts: 0, workerThreadId: 0, workers: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
+    kind: 'in-process', workerStarts: 0, workerThreadId: 0, workers: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0, editsByPart: 0, wholeAnalyses: 0,
   };
 
   constructor(private readonly events: EngineEvents = {}) {}
 
   stats(): EngineStats {
-    return { ...this.counters, modelsBuilt: modelCacheStats.built, modelHits: modelCacheStats.hits };
+    return { ...this.counters, modelsBuilt: modelCacheStats.built, modelHits: modelCacheStats.hits, editsByPart: editStats.parts, wholeAnalyses: editStats.wholeFiles };
   }
 
   analyze(job: AnalysisJob): Promise<DocumentView> {

@@ -168,7 +168,7 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   const viewInput = (analysis: FileAnalysis) => (
     { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: performance.now() - t0 }
   );
-  const view = (analysis: FileAnalysis): DocumentView => buildView(viewInput(analysis), job.view);
+  const view = (analysis: FileAnalysis): DocumentView => buildView(viewInput(analysis), job.view, () => checkCancelled(hooks));
   // Early views carry the diagnostics only (the server publishes nothing else of them).
   const firstView = (analysis: FileAnalysis): DocumentView => buildDiagnosticsView(viewInput(analysis), job.view);
   // A first answer from the files the document reaches by name, when others still have no model:

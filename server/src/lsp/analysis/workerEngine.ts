@@ -23,6 +23,8 @@ interface Pending {
   job: AnalysisJob;
   resolve: (v: DocumentView) => void;
   reject: (e: unknown) => void;
+  /** Until when it may wait for the worker holding its document's last analysis (set at its first wait). */
+  waitUntil?: number;
 }
 
 interface Running {
@@ -39,11 +41,17 @@ interface Slot {
   /** [0]: the id of the newest job of this thread marked stale. */
   flag: Int32Array;
   threadId: number;
+  /** The document this worker analysed last: it keeps that document's last analysis, so an edit re-analyses only its part there. */
+  lastUri?: string;
+  /** The id of the last job it took (the newest holder of a document wins). */
+  lastJob?: number;
 }
 
 export interface WorkerEngineOptions extends EngineEvents {
   /** How long a stale job may keep its worker before the worker is replaced (default 60 s). */
   staleTimeoutMs?: number;
+  /** How long the newest job of a document waits for the worker holding its last analysis to end a stale job (default 150 ms). */
+  affinityWaitMs?: number;
   /** Worker threads at most (default 2, or 1 on a one-core machine). */
   maxWorkers?: number;
 }
@@ -56,10 +64,10 @@ export class WorkerEngine implements AnalysisEngine {
   private disposed = false;
   private readonly maxWorkers: number;
   private readonly counters: EngineStats = {
-    kind: 'worker', workerStarts: 0, workerThreadId: -1, workers: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0,
+    kind: 'worker', workerStarts: 0, workerThreadId: -1, workers: 0, jobsStarted: 0, jobsCompleted: 0, jobsCancelled: 0, timeouts: 0, modelsBuilt: 0, modelHits: 0, editsByPart: 0, wholeAnalyses: 0,
   };
   /** Model cache counters per thread (summed in stats()). */
-  private readonly models = new Map<number, { built: number; hits: number }>();
+  private readonly models = new Map<number, { built: number; hits: number; parts: number; wholes: number }>();
   /** Workers terminated on purpose (shutdown, timeout): their exit is not a crash. */
   private readonly terminating = new WeakSet<Worker>();
 
@@ -130,9 +138,13 @@ export class WorkerEngine implements AnalysisEngine {
   stats(): EngineStats {
     let built = 0;
     let hits = 0;
+    let parts = 0;
+    let wholes = 0;
     for (const m of this.models.values()) {
       built += m.built;
       hits += m.hits;
+      parts += m.parts;
+      wholes += m.wholes;
     }
     const first = this.slots[0];
     return {
@@ -141,23 +153,58 @@ export class WorkerEngine implements AnalysisEngine {
       workers: this.slots.filter((s) => s.worker).length,
       modelsBuilt: built,
       modelHits: hits,
+      editsByPart: parts,
+      wholeAnalyses: wholes,
     };
   }
 
   private pump(): void {
-    while (!this.disposed && this.queue.length > 0) {
-      // An idle warm worker first; else a new one while fewer than maxWorkers run.
-      let slot = this.slots.find((s) => s.worker && !s.running) ?? this.slots.find((s) => !s.worker && !s.running);
-      if (!slot && this.slots.length < this.maxWorkers) {
-        slot = { worker: undefined, running: undefined, flag: new Int32Array(new SharedArrayBuffer(4)), threadId: -1 };
-        this.slots.push(slot);
+    let k = 0;
+    while (!this.disposed && k < this.queue.length) {
+      const next = this.queue[k];
+      // The worker that analysed this document last keeps its last analysis (an edit there
+      // re-analyses only the edited part): it takes the job when idle, and the job waits for it
+      // when it is ending a stale job of the same document (it stops at its next check). Else an
+      // idle warm worker, else a new one while fewer than maxWorkers run.
+      let home: Slot | undefined;
+      for (const s of this.slots) if (s.worker && s.lastUri === next.job.uri && (!home || s.lastJob! > home.lastJob!)) home = s;
+      let slot: Slot | undefined;
+      if (home && !home.running) slot = home;
+      else if (home?.running && !home.running.pending && home.running.job.uri === next.job.uri && this.mayWait(next)) {
+        k++;
+        continue;
+      } else {
+        slot = this.slots.find((s) => s.worker && !s.running) ?? this.slots.find((s) => !s.worker && !s.running);
+        if (!slot && this.slots.length < this.maxWorkers) {
+          slot = { worker: undefined, running: undefined, flag: new Int32Array(new SharedArrayBuffer(4)), threadId: -1 };
+          this.slots.push(slot);
+        }
       }
-      if (!slot) return;
-      const next = this.queue.shift()!;
+      if (!slot) {
+        k++;
+        continue;
+      }
+      this.queue.splice(k, 1);
       slot.running = { id: next.id, job: next.job, pending: next };
+      slot.lastUri = next.job.uri;
+      slot.lastJob = next.id;
       this.counters.jobsStarted++;
       this.ensureWorker(slot).postMessage({ id: next.id, job: next.job });
     }
+  }
+
+  /**
+   * True while a job may still wait for the worker that holds its document's last analysis
+   * (`affinityWaitMs`, default 150 ms from its first wait); a timer pumps again when that ends,
+   * so a stale step that reaches no check soon does not hold the newest job.
+   */
+  private mayWait(p: Pending): boolean {
+    const now = Date.now();
+    if (p.waitUntil === undefined) {
+      p.waitUntil = now + (this.events.affinityWaitMs ?? 150);
+      setTimeout(() => this.pump(), this.events.affinityWaitMs ?? 150).unref?.();
+    }
+    return now < p.waitUntil;
   }
 
   private finish(slot: Slot, r: Running): void {
@@ -183,7 +230,7 @@ export class WorkerEngine implements AnalysisEngine {
         if (r.pending) this.events.onEarly?.(reply.view);
         return;
       }
-      this.models.set(w.threadId, { built: reply.counters.modelsBuilt, hits: reply.counters.modelHits });
+      this.models.set(w.threadId, { built: reply.counters.modelsBuilt, hits: reply.counters.modelHits, parts: reply.counters.editsByPart, wholes: reply.counters.wholeAnalyses });
       this.finish(slot, r);
       const p = r.pending;
       if (p) {

@@ -8,7 +8,7 @@
  */
 import { parentPort, threadId, workerData } from 'node:worker_threads';
 import { loadGrammars } from '../../grammars';
-import { Cancelled, modelCacheStats, runJob, type AnalysisJob } from './job';
+import { Cancelled, editStats, modelCacheStats, runJob, type AnalysisJob } from './job';
 
 export interface WorkerRequest {
   id: number;
@@ -24,6 +24,9 @@ export interface WorkerData {
 export interface WorkerCounters {
   modelsBuilt: number;
   modelHits: number;
+  /** Document analyses made by re-analysing the edited part, and of the whole file. */
+  editsByPart: number;
+  wholeAnalyses: number;
   threadId: number;
 }
 
@@ -38,7 +41,7 @@ const port = parentPort;
 if (port) {
   const grammars = loadGrammars();
   const cancel = (workerData as WorkerData | undefined)?.cancel;
-  const counters = (): WorkerCounters => ({ modelsBuilt: modelCacheStats.built, modelHits: modelCacheStats.hits, threadId });
+  const counters = (): WorkerCounters => ({ modelsBuilt: modelCacheStats.built, modelHits: modelCacheStats.hits, editsByPart: editStats.parts, wholeAnalyses: editStats.wholeFiles, threadId });
   port.on('message', async (msg: WorkerRequest) => {
     const stale = (): boolean => !!cancel && Atomics.load(cancel, 0) >= msg.id;
     let reply: WorkerReply;

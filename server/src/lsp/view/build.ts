@@ -38,7 +38,11 @@ export function buildDiagnosticsView(input: ViewInput, o: ViewOptions): Document
   };
 }
 
-export function buildView(input: ViewInput, o: ViewOptions): DocumentView {
+/**
+ * `check` is called between the parts of the view (the editor's job throws there once a newer
+ * edit has made the view stale, so the worker is free for it sooner).
+ */
+export function buildView(input: ViewInput, o: ViewOptions, check: () => void = () => undefined): DocumentView {
   const a = input.analysis;
   const diagnostics: Diagnostic[] = [];
   const diagnosticIndex = new Map<number, number>();
@@ -47,18 +51,27 @@ export function buildView(input: ViewInput, o: ViewOptions): DocumentView {
     if (d) diagnosticIndex.set(k, diagnostics.push(d) - 1);
   });
   const ctx = new ViewContext(a, input.userBindings);
+  check();
   const hovers = buildHovers(a, ctx, { profileName: o.profileName, baseline: o.baseline });
+  check();
+  const lenses = o.codeLens ? buildLenses(a, input.uri, o.profileName) : [];
+  const inlayHints = o.inlayHints ? buildInlayHints(a) : [];
+  const actions = buildActions(a, input.text, (k) => diagnosticIndex.get(k));
+  check();
+  const refactors = buildRefactors(a, input.text);
+  check();
+  const planning = buildPlanning(a, input.uri);
   return {
     uri: input.uri,
     version: input.version,
     diagnostics,
     hovers: hovers.hovers,
     cards: hovers.cards,
-    lenses: o.codeLens ? buildLenses(a, input.uri, o.profileName) : [],
-    inlayHints: o.inlayHints ? buildInlayHints(a) : [],
-    actions: buildActions(a, input.text, (k) => diagnosticIndex.get(k)),
-    refactors: buildRefactors(a, input.text),
-    planning: buildPlanning(a, input.uri),
+    lenses,
+    inlayHints,
+    actions,
+    refactors,
+    planning,
     estimatesAvailable: hasEstimates(a),
     internalErrors: a.internalErrors.map((e) => e.split('\n')[0]),
     analysisMilliseconds: input.analysisMilliseconds,
