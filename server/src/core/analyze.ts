@@ -96,6 +96,11 @@ export interface AnalyzeOptions extends PreprocessSettings {
    * whole-file analysis. Merged with this analysis's own nests in source order.
    */
   outsideNests?: readonly NestReport[];
+  /**
+   * Internal (the editor): leave the what-if and port re-analyses to `FileAnalysis.complete`, so
+   * the findings can be shown before them.
+   */
+  deferWhatIf?: boolean;
 }
 
 /** The program model of one file (what `analyzeSource` starts from); never throws. */
@@ -308,6 +313,11 @@ export interface FileAnalysis {
   baselineReason?: string;
   /** The port of the time loops that run on the host (`plans` per time loop, and the ported text). */
   port?: { text: string; naiveText: string };
+  /**
+   * With `deferWhatIf`: runs the what-if and port steps (the time loops' estimates with the
+   * suggested regions, the port plans) and removes itself. The findings are final without it.
+   */
+  complete?: () => void;
   /** User bindings (`--bind`) that name nothing in this file (the CLI warns when no file uses one). */
   unmatchedBindings: string[];
   /** What the model could not read in the loop nests, and what it does to their figures. */
@@ -440,33 +450,54 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       ...(options.projectRoot ? { projectRoot: options.projectRoot } : {}),
     });
     stopIfCancelled();
-    const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
     result.findings.push(...data.findings);
     if (options.programRun && data.ledgers.length === 0) {
       result.programTransfers = programTransfers(model, (p) => bind({ procedure: p }), (k) => strides.get(k) ?? []);
     }
-    for (const tl of ownTimeLoops) {
+    // The time loops' reports, with the step work once the suggested regions are in (what-if).
+    const timeLoopReports = (fixed: (WhatIf | null)[]): TimeLoopReport[] => ownTimeLoops.map((tl) => {
       const steps = tl.loop.tripCount ?? S.sym(unknownTripSymbol(tl.loop));
       const ledger = data.ledgers.find((l) => l.loop === tl.loop);
       const k = ledger ? data.ledgers.indexOf(ledger) : -1;
       const estimate = ledger ? stepEstimate(ledger, allNests, profile, baseline, fixed[k]?.work) : undefined;
-      result.timeLoops.push({ timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate, ...(fixed[k] ? { withRegion: fixed[k]! } : {}) });
-    }
+      return { timeLoop: tl, steps: quantity(steps, bind(tl)), ledger, estimate, ...(fixed[k] ? { withRegion: fixed[k]! } : {}) };
+    });
+    // The what-if and the port re-analyse the file with edits in: they change no finding, so an
+    // editor may show the findings first and run them after (`deferWhatIf`).
+    const whatIfAndPort = (): void => {
+      const fixed = options.whatIf === false ? [] : whatIf(input, deps, options, data.ledgers);
+      result.timeLoops = timeLoopReports(fixed);
+      stopIfCancelled();
+      if (options.plans !== false && portable(result).length > 0) {
+        const again = (text: string, what: boolean): FileAnalysis =>
+          analyzeSource({ ...input, text, model: undefined }, deps, { ...options, baseline, plans: false, whatIf: what, programRun: false });
+        const port = portPlans(result, input.text, again, profile, baseline, { family: options.portFamily });
+        if (port) {
+          result.port = { text: port.text, naiveText: port.naiveText };
+          for (const tl of result.timeLoops) {
+            const p = port.plans.get(tl);
+            if (p) tl.plans = p;
+          }
+        }
+      }
+    };
+    const deferred = options.deferWhatIf === true && (options.whatIf !== false || (options.plans !== false && ownTimeLoops.length > 0));
+    if (!deferred) whatIfAndPort();
+    else result.timeLoops = timeLoopReports([]);
     result.findings.push(...unknownExtentFindings(result));
     result.notUnderstood = notUnderstood(result.nests, model.language === 'fortran');
     if (options.bindings && options.bindings.size > 0) result.unmatchedBindings = unmatchedBindings(model, options.bindings);
     stopIfCancelled();
-    if (options.plans !== false && portable(result).length > 0) {
-      const again = (text: string, what: boolean): FileAnalysis =>
-        analyzeSource({ ...input, text, model: undefined }, deps, { ...options, baseline, plans: false, whatIf: what, programRun: false });
-      const port = portPlans(result, input.text, again, profile, baseline, { family: options.portFamily });
-      if (port) {
-        result.port = { text: port.text, naiveText: port.naiveText };
-        for (const tl of result.timeLoops) {
-          const p = port.plans.get(tl);
-          if (p) tl.plans = p;
+    if (deferred) {
+      result.complete = () => {
+        delete result.complete;
+        try {
+          whatIfAndPort();
+        } catch (err) {
+          if (err instanceof AnalysisCancelled) throw err;
+          result.internalErrors.push(err instanceof Error ? `${err.message}\n${err.stack ?? ''}` : String(err));
         }
-      }
+      };
     }
   } catch (err) {
     if (err instanceof AnalysisCancelled) throw err;

@@ -190,22 +190,24 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   }
   const workspace = neighbours.length > 0 ? modelsOf(job, neighbours, deps, total, hooks) : undefined;
   checkCancelled(hooks);
-  const analysis = analyseDocument(job, deps, { ...analyzeOptions(job), ...cancelled, workspace });
+  const kept = analyseDocument(job, deps, { ...analyzeOptions(job), ...cancelled, workspace });
+  // The job's own copy of the findings (linking adds findings and related locations; the kept
+  // analysis stays as the core made it).
+  const copy = (a: FileAnalysis): FileAnalysis => ({ ...a, findings: a.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) });
   checkCancelled(hooks);
   // Findings that span two files: linked to the other end, and those of callers' time loops that
   // land here. Analysing a caller costs its whole time loop (every kernel it runs, in any file),
-  // so the document's own findings go out first when there is one.
-  const callers = callersOf(job, analysis, workspace);
-  if (early && callers.length > 0) {
-    const own = { ...analysis, findings: analysis.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
+  // so the document's own findings go out first; when no caller adds any, they are final and go
+  // out before the what-if, the port plans and the rest of the view.
+  const callers = callersOf(job, kept, workspace);
+  if (early) {
+    const own = copy(kept);
     linkInJob(job, [own]);
     early(firstView(own));
-  } else if (early) {
-    // No caller adds findings here: the diagnostics are final now (linking again below changes
-    // nothing), and they go out before the rest of the view is built.
-    linkInJob(job, [analysis]);
-    early(firstView(analysis));
   }
+  checkCancelled(hooks);
+  kept.complete?.();
+  const analysis = copy(kept);
   linkCallers(job, analysis, workspace, deps, () => checkCancelled(hooks), callers, hooks?.cancelled);
   checkCancelled(hooks);
   return view(analysis);
@@ -239,6 +241,8 @@ function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOp
   const sameWorkspace = kept !== undefined && kept.inputs === inputs && (kept.workspace ?? []).length === (ws ?? []).length && (ws ?? []).every((m, i) => kept.workspace![i] === m);
   let base: EditBase | undefined;
   if (sameWorkspace) {
+    // A kept analysis whose job went stale before its what-if ran is completed first.
+    kept.base.analysis.complete?.();
     const edit = analyzeEdit(kept.base, input, deps, options);
     if (edit) {
       base = edit.base;
@@ -247,13 +251,16 @@ function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOp
     }
   }
   if (!base) {
-    base = { text: job.text, analysis: analyzeSource(input, deps, options) };
+    // A whole analysis runs to its end even when a newer edit arrives meanwhile: it becomes the
+    // kept analysis that the newer edit is re-analysed from by parts (cancelling it would make
+    // the newer job analyse the whole file again). Its what-if is left to the job (complete).
+    const { cancelled: _, ...uncancelled } = options;
+    base = { text: job.text, analysis: analyzeSource(input, deps, { ...uncancelled, deferWhatIf: true }) };
     editStats.wholeFiles++;
   }
   if (!documentBases.has(job.path) && documentBases.size >= MAX_CACHED_MODELS) documentBases.delete(documentBases.keys().next().value!);
   documentBases.set(job.path, { inputs, workspace: ws, base });
-  const a = base.analysis;
-  return { ...a, findings: a.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) };
+  return base.analysis;
 }
 
 /** Drops every kept analysis (tests: a cold job after warm ones). */
