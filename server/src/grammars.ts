@@ -16,24 +16,35 @@ export interface Grammars {
 // (where esbuild defines import.meta.url from __filename) and under the test runner (ESM).
 const resolveFromHere = createRequire(import.meta.url).resolve;
 
-let loading: Promise<Grammars> | undefined;
+const WASM: Partial<Record<SourceLanguage, string>> = { c: 'tree-sitter-c/tree-sitter-c.wasm', cpp: 'tree-sitter-cpp/tree-sitter-cpp.wasm' };
+let init: Promise<void> | undefined;
+/** One parser per language, made once per thread when first asked for. */
+const parsers = new Map<SourceLanguage, Promise<Parser>>();
 
-export function loadGrammars(): Promise<Grammars> {
-  loading ??= load();
-  return loading;
+function parserPromise(language: SourceLanguage): Promise<Parser> | undefined {
+  const wasm = WASM[language];
+  if (!wasm) return undefined;
+  let p = parsers.get(language);
+  if (!p) {
+    init ??= Parser.init();
+    p = init.then(async () => {
+      const parser = new Parser();
+      parser.setLanguage(await Language.load(resolveFromHere(wasm)));
+      return parser;
+    });
+    parsers.set(language, p);
+  }
+  return p;
 }
 
-async function load(): Promise<Grammars> {
-  await Parser.init();
-  const [c, cpp] = await Promise.all([
-    Language.load(resolveFromHere('tree-sitter-c/tree-sitter-c.wasm')),
-    Language.load(resolveFromHere('tree-sitter-cpp/tree-sitter-cpp.wasm')),
-  ]);
-  const parsers = new Map<SourceLanguage, Parser>();
-  for (const [lang, grammar] of [['c', c], ['cpp', cpp]] as const) {
-    const parser = new Parser();
-    parser.setLanguage(grammar);
-    parsers.set(lang, parser);
-  }
-  return { parserFor: (language) => parsers.get(language) };
+/**
+ * Parsers for `languages` (default: every language with a grammar). A run that reads only C does
+ * not load the C++ grammar (the CLI passes the languages of its files); asking for a language
+ * that was not loaded answers undefined, as for Fortran.
+ */
+export async function loadGrammars(languages: Iterable<SourceLanguage> = Object.keys(WASM) as SourceLanguage[]): Promise<Grammars> {
+  const wanted = [...new Set(languages)].filter((l) => WASM[l]);
+  const loaded = new Map<SourceLanguage, Parser>();
+  await Promise.all(wanted.map(async (l) => loaded.set(l, await parserPromise(l)!)));
+  return { parserFor: (language) => loaded.get(language) };
 }

@@ -3,6 +3,7 @@
  * 1 otherwise, 2 on usage or input errors (with a one-line message on stderr).
  */
 import { analyzeSource, buildModel, type FileAnalysis } from '../core/analyze';
+import { createRequire } from 'node:module';
 import { relative, sep } from 'node:path';
 import { report } from '../core/report';
 import { sarifLog } from '../core/sarif';
@@ -36,8 +37,9 @@ export async function run(argv: string[], out: Out, err: Out): Promise<number> {
         return 0;
       case 'serve':
         // The server reads --stdio / --node-ipc / --socket from the process arguments itself.
-        // Loaded only for `serve`: the other commands never evaluate the language server's modules.
-        (await import('../lsp')).startServer();
+        // The language server's own bundle beside this one (server/dist/lsp.js starts it when
+        // loaded): the CLI bundle does not carry it, so the other commands neither load nor parse it.
+        createRequire(import.meta.url)('./lsp.js');
         return new Promise<number>(() => undefined);
       case 'calibrate': {
         const { host, measurements } = measure(args, err);
@@ -72,7 +74,8 @@ async function analyse(args: CheckArgs | PlanArgs, out: Out, err: Out): Promise<
   const user = { defines: args.defines, undefines: args.undefines, includeDirs: args.includeDirs, directives: args.directives };
   // The files (given, or listed by the compilation database) and each one's own preprocessor flags.
   const { files, settings } = projectFiles(args, user, (line) => err(`offload-ledger: ${line}`));
-  const deps = { ...(await loadGrammars()), readInclude: readHeader };
+  // Only the grammars of the files checked (a C project does not load the C++ grammar).
+  const deps = { ...(await loadGrammars(files.map((f) => f.language))), readInclude: readHeader };
   // Every file's model first, so that a time loop calling a kernel in another file follows it.
   const models = files.map((f, k) => buildModel(f, deps, settings[k]));
   const analyses: FileAnalysis[] = files.map((f, k) =>
