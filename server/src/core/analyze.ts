@@ -101,6 +101,8 @@ export interface AnalyzeOptions extends PreprocessSettings {
    * the findings can be shown before them.
    */
   deferWhatIf?: boolean;
+  /** Internal: false when only the ledgers and nests are read (the what-if re-analysis): no race check. */
+  races?: boolean;
 }
 
 /** The program model of one file (what `analyzeSource` starts from); never throws. */
@@ -437,7 +439,7 @@ export function analyzeSource(input: AnalyzeInput, deps: AnalyzeDeps, options: A
       (nest.procedure.origin ? external : result.nests).push(report);
     }
     stopIfCancelled();
-    result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n), input.text));
+    if (options.races !== false) result.findings.push(...raceFindings(model, scan.nests.filter((n) => !n.procedure.origin), (n) => bind(n), input.text));
     stopIfCancelled();
     const ownTimeLoops = scan.timeLoops.filter((t) => !t.procedure.origin);
     const allNests = external.length > 0 ? [...result.nests, ...external] : result.nests;
@@ -546,7 +548,8 @@ export function dropNoOpFixes(findings: Finding[], text: string): void {
 function whatIf(input: AnalyzeInput, deps: AnalyzeDeps, options: AnalyzeOptions, ledgers: TimeLoopLedger[]): (WhatIf | null)[] {
   const edits = ledgers.flatMap((l) => l.dataRegion?.edits ?? []);
   if (edits.length === 0) return ledgers.map(() => null);
-  const after = analyzeSource({ ...input, model: undefined, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false });
+  // Only its ledgers and nests are read: its race findings would be dropped, so they are not made.
+  const after = analyzeSource({ ...input, model: undefined, text: applyLineEdits(input.text, edits) }, deps, { ...options, whatIf: false, races: false });
   const afterLedgers = after.timeLoops.map((t) => t.ledger).filter((l): l is TimeLoopLedger => !!l);
   // The k-th ledger of a procedure before the edits is its k-th ledger after them (grouped by
   // procedure once: a file of a thousand time loops must not search them per time loop).

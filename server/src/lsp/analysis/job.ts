@@ -216,9 +216,10 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
 /**
  * The last whole analysis of each document (per thread), with the inputs it was made from: an
  * edit of the same document with the same inputs re-analyses only the part of the file the edit
- * touches (core/incremental.ts). Bounded like the model cache.
+ * touches (core/incremental.ts). The 16 most recently analysed open documents.
  */
 const documentBases = new Map<string, { inputs: string; workspace: readonly ProgramModel[] | undefined; base: EditBase }>();
+const MAX_KEPT_DOCUMENTS = 16;
 
 /** Counters of the editing path (per thread), for the debug request and the benchmark. */
 export const editStats = { parts: 0, wholeFiles: 0, lastProcedures: 0 };
@@ -254,12 +255,18 @@ function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOp
     // A whole analysis runs to its end even when a newer edit arrives meanwhile: it becomes the
     // kept analysis that the newer edit is re-analysed from by parts (cancelling it would make
     // the newer job analyse the whole file again). Its what-if is left to the job (complete).
+    // (A workspace check's file is not kept: its analysis stays cancellable and complete.)
     const { cancelled: _, ...uncancelled } = options;
-    base = { text: job.text, analysis: analyzeSource(input, deps, { ...uncancelled, deferWhatIf: true }) };
+    base = { text: job.text, analysis: job.firstViews === false ? analyzeSource(input, deps, options) : analyzeSource(input, deps, { ...uncancelled, deferWhatIf: true }) };
     editStats.wholeFiles++;
   }
-  if (!documentBases.has(job.path) && documentBases.size >= MAX_CACHED_MODELS) documentBases.delete(documentBases.keys().next().value!);
-  documentBases.set(job.path, { inputs, workspace: ws, base });
+  // Kept for open documents only (a workspace check's files are not edited), a few at a time:
+  // each is a whole analysis.
+  if (job.firstViews !== false) {
+    documentBases.delete(job.path);
+    if (documentBases.size >= MAX_KEPT_DOCUMENTS) documentBases.delete(documentBases.keys().next().value!);
+    documentBases.set(job.path, { inputs, workspace: ws, base });
+  }
   return base.analysis;
 }
 
