@@ -16,7 +16,7 @@
  * the whole-file analysis (something outside the part shaped them). The editor's tests compare
  * the merged analysis with a fresh one after random edit sequences (tests/incremental.test.ts).
  */
-import { type AnalyzeDeps, type AnalyzeInput, type AnalyzeOptions, type FileAnalysis, analyzeSource, inSourceOrder, unknownExtentFindings, unmatchedBindings } from './analyze';
+import { type AnalyzeDeps, type AnalyzeInput, type AnalyzeOptions, type FileAnalysis, type NestReport, analyzeSource, inSourceOrder, unknownExtentFindings, unmatchedBindings } from './analyze';
 import { fileReport } from './report';
 import { notUnderstood } from './analysis/understood';
 import type { Procedure } from './model/program';
@@ -64,6 +64,31 @@ let lastShared = { key: '', id: 0 };
 function sharedSetId(key: string): number {
   if (key !== lastShared.key) lastShared = { key, id: lastShared.id + 1 };
   return lastShared.id;
+}
+
+/** Every name a procedure's lines mention (per procedure object, which stands for one text). */
+const nameCache = new WeakMap<Procedure, Set<string>>();
+function namesIn(p: Procedure, lines: readonly string[], norm: (s: string) => string): Set<string> {
+  let names = nameCache.get(p);
+  if (!names) {
+    names = new Set();
+    for (let l = p.range.start.line; l <= p.range.end.line; l++) for (const m of (lines[l] ?? '').matchAll(/[A-Za-z_]\w*/g)) names.add(norm(m[0]));
+    nameCache.set(p, names);
+  }
+  return names;
+}
+
+/** The arrays and strides of nests in source order, as text (what a linearised array's shape is read from). */
+function stridesOf(nests: readonly NestReport[]): string {
+  const out: string[] = [];
+  for (const r of nests) for (const f of r.cost.footprints) out.push(`${f.array}:${f.strides.map((x) => x.key).join(',')}`);
+  return out.join(';');
+}
+
+/** The file-level bindings, float constants and variables of a model, as text. */
+function fileLevel(a: FileAnalysis): string {
+  const m = a.model;
+  return JSON.stringify([[...m.bindings].map(([k, v]) => [k, v.key]), [...m.floatConstants], m.globals.map((g) => g.name)]);
 }
 
 const PREPROCESSOR_OR_DIRECTIVE = /^\s*#|!\$|pragma|_Pragma|^\s*[cC*]\$/i;
@@ -219,6 +244,25 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
   }
   // An edited procedure may now name something of another part: then the parts join.
   for (const i of edited.keys()) for (const t of tokensOf(own[i], newLines, false)) if (!partTokens.has(t)) return whole('the edit reaches another part');
+  // A name the edit adds or removes must not occur in another part: some readings are file-wide
+  // (a Fortran name is an array when any directive's data clause names it, a local keeps its
+  // initial value only while no procedure assigns that name, a C `(x) - 1` is a cast unless `x`
+  // is used as a value somewhere), so such a name may change how another part reads.
+  const count = (lines: readonly number[], text: readonly string[]): Map<string, number> => {
+    const m = new Map<string, number>();
+    for (const l of lines) for (const x of text[l].matchAll(/[A-Za-z_]\w*/g)) m.set(norm(x[0]), (m.get(norm(x[0])) ?? 0) + 1);
+    return m;
+  };
+  const namesBefore = count(changed, oldLines);
+  const namesAfter = count(changed, newLines);
+  const moved = [...new Set([...namesBefore.keys(), ...namesAfter.keys()])].filter((n) => namesBefore.get(n) !== namesAfter.get(n));
+  if (moved.length > 0) {
+    for (let i = 0; i < own.length; i++) {
+      if (part.has(i)) continue;
+      const names = namesIn(own[i], oldLines, norm);
+      if (moved.some((n) => names.has(n))) return whole('the edit adds or removes a name another part uses');
+    }
+  }
   let partLines = 0;
   for (const i of part) partLines += own[i].range.end.line - own[i].range.start.line + 1;
   if (part.size === own.length || partLines * 2 > oldLines.length) return whole('the part is most of the file');
@@ -238,8 +282,10 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
     return i !== undefined ? part.has(i) : own.some((q, j) => part.has(j) && q.name === p.name && q.range.start.line === p.range.start.line);
   }
   const partOptions: AnalyzeOptions = { ...options, baseline: a0.baseline, outsideNests: outside };
+  // A part's analysis depends on its text and on the strides of the nests outside it (and the baseline).
+  const context = `${a0.baseline}\n${stridesOf(outside)}`;
   const analysePart = (text: string): FileAnalysis => {
-    const key = `${input.path}\n${text}`;
+    const key = `${input.path}\n${context}\n${text}`;
     const hit = partCache.get(key);
     if (hit) return hit;
     const a = analyzeSource({ ...input, text }, deps, partOptions);
@@ -251,6 +297,11 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
   const newPart = analysePart(blanked(newLines));
   if (oldPart.internalErrors.length > 0 || newPart.internalErrors.length > 0 || newPart.port || oldPart.port) return whole('the part has whole-file results');
   if (oldPart.directiveFamilies.join() !== newPart.directiveFamilies.join()) return whole('directive models changed');
+  // What the part gives the whole file must not change: the strides its nests index each array
+  // with (a linearised array of the same name elsewhere takes its shape from them), and the
+  // file-level bindings, constants and variables (a main program's parameters are file-level).
+  if (stridesOf(oldPart.nests) !== stridesOf(newPart.nests) || stridesOf(oldPart.externalNests) !== stridesOf(newPart.externalNests)) return whole('the part indexes its arrays with other strides');
+  if (fileLevel(oldPart) !== fileLevel(newPart)) return whole('file-level names changed');
   const partProcs = (a: FileAnalysis): Procedure[] => a.model.procedures.filter((p) => !p.origin);
   const oldProcs = partProcs(oldPart);
   const newProcs = partProcs(newPart);
