@@ -96,6 +96,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     // The first diagnostics of a document while the rest of its project is modelled; the job's
     // own view replaces them (hovers and fixes wait for that one).
     onEarly: (view) => {
+      scheduler.noteEarly(view.uri, view.version, view.analysisMilliseconds);
       if (documents.get(view.uri)?.version !== view.version || scheduler.latest(view.uri)?.version === view.version) return;
       earlyDiagnostics.set(view.uri, { version: view.version, json: JSON.stringify(view.diagnostics) });
       void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });

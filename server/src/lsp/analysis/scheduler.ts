@@ -34,6 +34,8 @@ export class Scheduler {
   private inFlight = 0;
   private readonly running = new Map<string, number>();
   private readonly lastEdit = new Map<string, number>();
+  /** How long the last analysed version of each document took to its diagnostics (early or final view). */
+  private readonly diagnosticsMs = new Map<string, { version: number; ms: number }>();
   /** The last analysis of each open document, keyed by its inputs. */
   readonly cache = new ViewCache();
 
@@ -50,13 +52,16 @@ export class Scheduler {
   schedule(uri: string, delayMs: number, edited = false): void {
     if (edited) {
       this.engine.cancel?.(uri);
-      // While the user is typing (edits closer than TYPING_GAP_MS), wait one and a half gaps: an
-      // analysis started between two keystrokes would be stale before it ends and would hold a
-      // worker until its document step is done. A single edit after a pause waits `delayMs`.
+      // While the user is typing (edits closer than TYPING_GAP_MS) and the document's diagnostics
+      // took longer than the gap, wait one and a half gaps: such an analysis started between two
+      // keystrokes would be stale before it ends. When they come faster than the user types (an
+      // edit re-analysed by parts), each keystroke is analysed at once. A single edit after a
+      // pause waits `delayMs`.
       const now = Date.now();
       const gap = now - (this.lastEdit.get(uri) ?? -Infinity);
       this.lastEdit.set(uri, now);
-      if (gap < TYPING_GAP_MS) delayMs = Math.max(delayMs, Math.min(Math.round(gap * 1.5), TYPING_GAP_MS));
+      const cost = this.diagnosticsMs.get(uri)?.ms ?? Infinity;
+      if (gap < TYPING_GAP_MS && cost > gap) delayMs = Math.max(delayMs, Math.min(Math.round(gap * 1.5), TYPING_GAP_MS));
     }
     clearTimeout(this.timers.get(uri));
     this.timers.set(
@@ -68,7 +73,13 @@ export class Scheduler {
     );
   }
 
+  /** An early view's diagnostics of `version` took `ms` from the job's start (they went out then). */
+  noteEarly(uri: string, version: number, ms: number): void {
+    this.diagnosticsMs.set(uri, { version, ms });
+  }
+
   forget(uri: string): void {
+    this.diagnosticsMs.delete(uri);
     clearTimeout(this.timers.get(uri));
     this.timers.delete(uri);
     this.views.delete(uri);
@@ -128,6 +139,8 @@ export class Scheduler {
       const view = await this.engine.analyze(job);
       // An edit that arrived during the analysis has scheduled a newer one: drop this result.
       this.cache.store(job, view);
+      const early = this.diagnosticsMs.get(uri);
+      if (!early || early.version !== view.version) this.diagnosticsMs.set(uri, { version: view.version, ms: view.analysisMilliseconds });
       if (view.version !== this.hooks.currentVersion(uri)) return;
       this.views.set(uri, view);
       this.hooks.onView(view);

@@ -52,7 +52,7 @@ export function buildView(input: ViewInput, o: ViewOptions, check: () => void = 
   });
   const ctx = new ViewContext(a, input.userBindings);
   check();
-  const hovers = buildHovers(a, ctx, { profileName: o.profileName, baseline: o.baseline });
+  const hovers = buildHovers(a, ctx, { profileName: o.profileName, baseline: o.baseline }, check);
   check();
   const lenses = o.codeLens ? buildLenses(a, input.uri, o.profileName) : [];
   const inlayHints = o.inlayHints ? buildInlayHints(a) : [];

@@ -21,12 +21,15 @@ export interface HoverIndex {
   cards: string[];
 }
 
-export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings): HoverIndex {
+/** `check` is called every few dozen cards (the editor's job stops there once the view is stale). */
+export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, check: () => void = () => undefined): HoverIndex {
   const out: HoverIndex = { hovers: {}, cards: [] };
+  let made = 0;
   const cardIds = new Map<string, number>();
   const card = (key: string, make: () => string): number => {
     let id = cardIds.get(key);
     if (id === undefined) {
+      if ((++made & 31) === 0) check();
       id = out.cards.push(make()) - 1;
       cardIds.set(key, id);
     }
