@@ -25,6 +25,7 @@ interface Pending {
   reject: (e: unknown) => void;
   /** Until when it may wait for the worker holding its document's last analysis (set at its first wait). */
   waitUntil?: number;
+  waitTimer?: NodeJS.Timeout;
 }
 
 interface Running {
@@ -200,11 +201,17 @@ export class WorkerEngine implements AnalysisEngine {
    */
   private mayWait(p: Pending): boolean {
     const now = Date.now();
-    if (p.waitUntil === undefined) {
-      p.waitUntil = now + (this.events.affinityWaitMs ?? 150);
-      setTimeout(() => this.pump(), this.events.affinityWaitMs ?? 150).unref?.();
+    p.waitUntil ??= now + (this.events.affinityWaitMs ?? 150);
+    if (now >= p.waitUntil) return false;
+    // A timer may fire a little before the clock reaches the end of the wait: then another one.
+    if (!p.waitTimer) {
+      p.waitTimer = setTimeout(() => {
+        p.waitTimer = undefined;
+        this.pump();
+      }, p.waitUntil - now + 1);
+      p.waitTimer.unref?.();
     }
-    return now < p.waitUntil;
+    return true;
   }
 
   private finish(slot: Slot, r: Running): void {
