@@ -208,6 +208,40 @@ describe("the editor's job keeps the last analysis of a document", () => {
   }, 120_000);
 });
 
+/** A linearised array indexed 1-D in a time loop and 2-D in another function (its strides give its shape), with fillers. */
+const LINEARISED = `#define NX 1000
+#define NY 1000
+void solve(double *u, int steps)
+{
+  double s = 0.0;
+#pragma acc data copy(u[0:NX*NY])
+  for (int t = 0; t < steps; t++) {
+#pragma acc parallel loop
+    for (int i = 0; i < NX * NY; i++)
+      u[i] = u[i] * 0.5;
+#pragma acc update host(u[0:NX*NY])
+    for (int j = 0; j < NY; j++)
+      s += u[j * NX];
+  }
+}
+void zero(double *u)
+{
+  for (int j = 0; j < NY; j++)
+    for (int i = 0; i < NX; i++)
+      u[j * NX + i] = 0.0;
+}
+void clear(double *z)
+{
+  for (int i = 0; i < NX; i++)
+    z[i] = 0.0;
+}
+void wipe(double *w)
+{
+  for (int i = 0; i < NX; i++)
+    w[i] = 0.0;
+}
+`;
+
 /**
  * Readings that span procedures (found by random edits of public mini-apps, then reduced): an edit
  * that could change how another part of the file reads is analysed as a whole file, and the
@@ -295,41 +329,7 @@ ${fillers(3)}`,
     {
       what: 'a linearised array takes its shape from the strides of a same-named array elsewhere (C)',
       path: 'strides.c',
-      text: `#include <stdlib.h>
-#define NX 1000
-#define NY 1000
-void solve(int steps)
-{
-  double *u = malloc(NX * NY * sizeof(double));
-  double s = 0.0;
-#pragma acc data copy(u[0:NX*NY])
-  for (int t = 0; t < steps; t++) {
-#pragma acc parallel loop
-    for (int i = 0; i < NX * NY; i++)
-      u[i] = u[i] * 0.5;
-#pragma acc update host(u[0:NX*NY])
-    for (int j = 0; j < NY; j++)
-      s += u[j * NX];
-  }
-  free(u);
-}
-void zero(double *u)
-{
-  for (int j = 0; j < NY; j++)
-    for (int i = 0; i < NX; i++)
-      u[j * NX + i] = 0.0;
-}
-void clear(double *z)
-{
-  for (int i = 0; i < NX; i++)
-    z[i] = 0.0;
-}
-void wipe(double *w)
-{
-  for (int i = 0; i < NX; i++)
-    w[i] = 0.0;
-}
-`,
+      text: LINEARISED,
       from: '      u[j * NX + i] = 0.0;', to: '      u[i + 0 * j * NX] = 0.0;', reason: 'the part indexes its arrays with other strides',
     },
   ];
@@ -351,38 +351,7 @@ describe('the cache of part analyses', () => {
   it('is keyed by what lies outside the part too: an undo after another procedure changed gives a fresh result', async () => {
     const deps = { ...(await grammarsForTests()), readInclude: readHeader };
     const path = 'undo.c';
-    const t0 = `#define NX 1000
-#define NY 1000
-void solve(double *u, int steps)
-{
-  double s = 0.0;
-#pragma acc data copy(u[0:NX*NY])
-  for (int t = 0; t < steps; t++) {
-#pragma acc parallel loop
-    for (int i = 0; i < NX * NY; i++)
-      u[i] = u[i] * 0.5;
-#pragma acc update host(u[0:NX*NY])
-    for (int j = 0; j < NY; j++)
-      s += u[j * NX];
-  }
-}
-void zero(double *u)
-{
-  for (int j = 0; j < NY; j++)
-    for (int i = 0; i < NX; i++)
-      u[j * NX + i] = 0.0;
-}
-void clear(double *z)
-{
-  for (int i = 0; i < NX; i++)
-    z[i] = 0.0;
-}
-void wipe(double *w)
-{
-  for (int i = 0; i < NX; i++)
-    w[i] = 0.0;
-}
-`;
+    const t0 = LINEARISED;
     const t1 = t0.replace('u[i] * 0.5', 'u[i] * 0.25');
     const t2 = t1.replace('u[j * NX + i] = 0.0;', 'u[i] = (0.0);');
     const t3 = t2.replace('u[i] * 0.25', 'u[i] * 0.5');
