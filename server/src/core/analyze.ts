@@ -520,7 +520,7 @@ export function inSourceOrder(list: readonly NestReport[]): NestReport[] {
  * A fix that would leave the text as it is (`u[0:n]` replaced by `u[0:n]`) is no fix: it is
  * dropped, whatever produced it. Lines are split once, and only when some fix replaces text.
  */
-export function dropNoOpFixes(findings: Finding[], text: string): void {
+function dropNoOpFixes(findings: Finding[], text: string): void {
   let lines: string[] | undefined;
   const slice = (r: Range): string | undefined => {
     lines ??= text.split('\n');

@@ -58,23 +58,18 @@ function whole(reason: string): undefined {
 const partCache = new Map<string, FileAnalysis>();
 const PART_CACHE = 8;
 
-/** The names each procedure shares with others, per set of shared names (a procedure object is one text). */
-const tokenCache = new WeakMap<Procedure, { shared: number; tokens: Set<string> }>();
-let lastShared = { key: '', id: 0 };
-function sharedSetId(key: string): number {
-  if (key !== lastShared.key) lastShared = { key, id: lastShared.id + 1 };
-  return lastShared.id;
+/** Every name the lines of a procedure mention. */
+function namesOfLines(p: Procedure, lines: readonly string[], norm: (s: string) => string): Set<string> {
+  const names = new Set<string>();
+  for (let l = p.range.start.line; l <= p.range.end.line; l++) for (const m of (lines[l] ?? '').matchAll(/[A-Za-z_]\w*/g)) names.add(norm(m[0]));
+  return names;
 }
 
-/** Every name a procedure's lines mention (per procedure object, which stands for one text). */
+/** The same, read once per procedure object (a procedure of the kept analysis stands for one text). */
 const nameCache = new WeakMap<Procedure, Set<string>>();
 function namesIn(p: Procedure, lines: readonly string[], norm: (s: string) => string): Set<string> {
   let names = nameCache.get(p);
-  if (!names) {
-    names = new Set();
-    for (let l = p.range.start.line; l <= p.range.end.line; l++) for (const m of (lines[l] ?? '').matchAll(/[A-Za-z_]\w*/g)) names.add(norm(m[0]));
-    nameCache.set(p, names);
-  }
+  if (!names) nameCache.set(p, (names = namesOfLines(p, lines, norm)));
   return names;
 }
 
@@ -210,23 +205,14 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
     for (const p of m.procedures) for (const part of p.name.split('::')) shared.add(norm(part));
     for (const g of m.globals) shared.add(norm(g.name));
   }
-  const sharedId = sharedSetId([...shared].sort().join('\n'));
-  const tokensOf = (p: Procedure, lines: readonly string[], cache: boolean): Set<string> => {
-    const hit = cache ? tokenCache.get(p) : undefined;
-    if (hit && hit.shared === sharedId) return hit.tokens;
+  const tokensOf = (p: Procedure, names: ReadonlySet<string>): Set<string> => {
     const hidden = new Set([...p.params, ...p.locals].map((d) => norm(d.name)));
     const out = new Set<string>(p.name.split('::').map(norm));
-    for (let l = p.range.start.line; l <= p.range.end.line; l++) {
-      for (const m of (lines[l] ?? '').matchAll(/[A-Za-z_]\w*/g)) {
-        const t = norm(m[0]);
-        if (shared.has(t) && !hidden.has(t)) out.add(t);
-      }
-    }
-    if (cache) tokenCache.set(p, { shared: sharedId, tokens: out });
+    for (const t of names) if (shared.has(t) && !hidden.has(t)) out.add(t);
     return out;
   };
   // The procedures of the base keep their objects while unchanged, so their names are read once.
-  const tokens = own.map((p) => tokensOf(p, oldLines, true));
+  const tokens = own.map((p) => tokensOf(p, namesIn(p, oldLines, norm)));
   const part = new Set<number>(edited.keys());
   const partTokens = new Set<string>();
   for (const i of part) for (const t of tokens[i]) partTokens.add(t);
@@ -243,7 +229,7 @@ export function analyzeEdit(base: EditBase, input: AnalyzeInput, deps: AnalyzeDe
     });
   }
   // An edited procedure may now name something of another part: then the parts join.
-  for (const i of edited.keys()) for (const t of tokensOf(own[i], newLines, false)) if (!partTokens.has(t)) return whole('the edit reaches another part');
+  for (const i of edited.keys()) for (const t of tokensOf(own[i], namesOfLines(own[i], newLines, norm))) if (!partTokens.has(t)) return whole('the edit reaches another part');
   // A name the edit adds or removes must not occur in another part: some readings are file-wide
   // (a Fortran name is an array when any directive's data clause names it, a local keeps its
   // initial value only while no procedure assigns that name, a C `(x) - 1` is a cast unless `x`

@@ -20,17 +20,24 @@ export interface ViewInput {
   analysisMilliseconds: number;
 }
 
+/** The diagnostics of the findings (a finding set to `off` has none), and each finding's index among them. */
+function diagnosticsOf(a: FileAnalysis, o: ViewOptions): { diagnostics: Diagnostic[]; diagnosticIndex: Map<number, number> } {
+  const diagnostics: Diagnostic[] = [];
+  const diagnosticIndex = new Map<number, number>();
+  a.findings.forEach((f, k) => {
+    const d = toDiagnostic(f, o.severity, o.docsHref);
+    if (d) diagnosticIndex.set(k, diagnostics.push(d) - 1);
+  });
+  return { diagnostics, diagnosticIndex };
+}
+
 /**
  * A view with the diagnostics only, for a first publication (the server publishes nothing else of
  * an early view): the findings are shown as soon as the analysis ends, and the hovers, lenses,
  * hints, fixes and refactors of the full view follow.
  */
 export function buildDiagnosticsView(input: ViewInput, o: ViewOptions): DocumentView {
-  const diagnostics: Diagnostic[] = [];
-  for (const f of input.analysis.findings) {
-    const d = toDiagnostic(f, o.severity, o.docsHref);
-    if (d) diagnostics.push(d);
-  }
+  const { diagnostics } = diagnosticsOf(input.analysis, o);
   return {
     uri: input.uri, version: input.version, diagnostics, hovers: {}, cards: [], lenses: [], inlayHints: [], actions: [], refactors: [],
     planning: buildPlanning({ ...input.analysis, timeLoops: [], nests: [] }, input.uri), estimatesAvailable: false,
@@ -44,12 +51,7 @@ export function buildDiagnosticsView(input: ViewInput, o: ViewOptions): Document
  */
 export function buildView(input: ViewInput, o: ViewOptions, check: () => void = () => undefined): DocumentView {
   const a = input.analysis;
-  const diagnostics: Diagnostic[] = [];
-  const diagnosticIndex = new Map<number, number>();
-  a.findings.forEach((f, k) => {
-    const d = toDiagnostic(f, o.severity, o.docsHref);
-    if (d) diagnosticIndex.set(k, diagnostics.push(d) - 1);
-  });
+  const { diagnostics, diagnosticIndex } = diagnosticsOf(a, o);
   const ctx = new ViewContext(a, input.userBindings);
   check();
   const hovers = buildHovers(a, ctx, { profileName: o.profileName, baseline: o.baseline }, check);
