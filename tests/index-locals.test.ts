@@ -267,3 +267,36 @@ void f() {
     expect(a.nests.map((n) => n.cost.flopsPerIteration)).toEqual([0, 1]);
   });
 });
+
+// C's grammar cannot tell `(i) + NX * j` from a cast of `+NX` to a type `i` times `j` without
+// knowing whether `i` is a type (C11 §6.5.4: a cast is `( type-name ) cast-expression`), and
+// tree-sitter's C grammar reads it as the cast. The front end parses again with those parentheses
+// blanked when the name is used as a value and no typedef defines it
+// (server/src/core/frontend/c/parenNames.ts).
+describe('parenthesised names before a sign', () => {
+  it('reads `(i) + NX * j` and `(i) - NX * (j - 1)` as arithmetic', async () => {
+    const m = await model(`
+#define NX 64
+void f(const double *a, double *b) {
+  for (int j = 1; j < 31; j++)
+    for (int i = 1; i < NX - 1; i++)
+      b[i + NX * j] = a[(i) + NX * j - 1] + a[(i) /* west */ - NX * (j - 1)];
+}`);
+    const reads = accesses(m, 'a').map((x) => x.subscripts[0]!);
+    // Hand expansion of each subscript.
+    expect(S.equals(reads[0], S.parseExpr('i + NX*j - 1', 'c')!)).toBe(true);
+    expect(S.equals(reads[1], S.parseExpr('i - NX*j + NX', 'c')!)).toBe(true);
+  });
+
+  it('keeps the cast when the name is a typedef', async () => {
+    const m = await model(`
+typedef double real_t;
+void f(int n, double *b, const double *k) {
+  for (int i = 0; i < n; i++)
+    b[i] = (real_t) + k[i] * 2.0;
+}`);
+    // Read as a cast: the only accesses are b and k, and no scalar named real_t is read.
+    expect(accesses(m, 'k').map((x) => sym(x))).toEqual(['i']);
+    expect(JSON.stringify(m.procedures[0].body, (_k, v: unknown) => (typeof v === 'bigint' ? String(v) : v))).not.toMatch(/"name":"real_t"/);
+  });
+});

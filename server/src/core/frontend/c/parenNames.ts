@@ -10,25 +10,41 @@
  */
 import type { Node } from './nodes';
 
+/** Blanks, comments and line splices that may stand between the tokens of `(name) -`. */
+const GAP = String.raw`(?:\s|\\\r?\n|/\*[\s\S]*?\*/|//[^\n]*)*`;
+/** `(name)` followed by a sign or `&`/`*`: the only text a suspect cast can come from. */
+const SUSPECT = new RegExp(String.raw`\(${GAP}([A-Za-z_]\w*)${GAP}\)${GAP}[-+&*]`, 'g');
+
 /**
  * The text with the parentheses of every cast whose type is a value name blanked, or undefined
- * when there is none (the first tree then stands). Linear in the tree.
+ * when there is none (the first tree then stands). Linear in the tree; a file with no
+ * `(name) -`-shaped text is not walked at all.
  */
 export function unparenthesisedValueNames(root: Node, text: string): string | undefined {
+  const candidates = new Set<string>();
+  for (const m of text.matchAll(SUSPECT)) candidates.add(m[1]);
+  if (candidates.size === 0) return undefined;
   const suspects: Node[] = [];
   const values = new Set<string>();
   const typedefs = new Set<string>();
+  const language = root.tree.language;
+  const identifier = language.idForNodeType('identifier', true);
+  const typeDefinition = language.idForNodeType('type_definition', true);
+  const castExpression = language.idForNodeType('cast_expression', true);
   // One cursor walk over the tree: casts of a signed or address-taken operand to a bare name, the
-  // names used as values, and the names a typedef defines.
+  // names used as values, and the names a typedef defines. Types are compared by id and only the
+  // few nodes that matter are made into objects (one per node was most of the walk's time).
   const cursor = root.walk();
   let more = true;
   while (more) {
-    const n = cursor.currentNode;
-    const type = n.type;
-    if (type === 'identifier') values.add(n.text);
-    else if (type === 'type_definition') {
-      for (const d of n.childrenForFieldName('declarator')) if (d) typedefs.add(d.text.replace(/[^\w]/g, ''));
-    } else if (type === 'cast_expression') {
+    const type = cursor.nodeTypeId;
+    if (type === identifier) {
+      const name = text.slice(cursor.startIndex, cursor.endIndex);
+      if (candidates.has(name)) values.add(name);
+    } else if (type === typeDefinition) {
+      for (const d of cursor.currentNode.childrenForFieldName('declarator')) if (d) typedefs.add(d.text.replace(/[^\w]/g, ''));
+    } else if (type === castExpression) {
+      const n = cursor.currentNode;
       const t = n.childForFieldName('type');
       const v = n.childForFieldName('value');
       if (t && v && t.namedChildCount === 1 && t.namedChild(0)?.type === 'type_identifier' && isSigned(v)) suspects.push(n);
