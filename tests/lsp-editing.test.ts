@@ -16,6 +16,8 @@ import { Superseded } from '../server/src/lsp/analysis/engine';
 import type { AnalysisJob } from '../server/src/lsp/analysis/job';
 import { sameInputs } from '../server/src/lsp/analysis/reuse';
 import { WorkerEngine } from '../server/src/lsp/analysis/workerEngine';
+import { Scheduler } from '../server/src/lsp/analysis/scheduler';
+import type { DocumentView } from '../server/src/lsp/view/types';
 import { projectStatusText } from '../client/src/projectStatusText';
 import { DebugStatsRequest, type DebugStats, ProjectStatusNotification, type ProjectStatusParams, ServerCommands, type WorkspaceCheckResult } from '../server/src/lsp/protocol';
 import { generateSource, linesWith } from './e2e/generate';
@@ -243,6 +245,77 @@ parentPort.on('message', ({ id, job }) => {
     expect(sameInputs(a, { ...a, text: 'y' })).toBe(false);
     expect(sameInputs(a, { ...a, bindings: [['N', 4]] })).toBe(false);
     expect(sameInputs(a, { ...a, neighbours: [{ ...a.neighbours[0], text: 'c' }] })).toBe(false);
+  });
+});
+
+describe('Scheduler while typing (stand-in engine)', () => {
+  // The engine answers at once and reports a whole analysis as taking 1,500 ms and an analysis
+  // by parts (same line count as the previous job) 5 ms, as the worker's views say.
+  function setup(debounceMs: number) {
+    let version = 1;
+    let text = 'a\nb\nc';
+    const started: number[] = [];
+    const published: number[] = [];
+    let lastLines = -1;
+    const engine = {
+      analyze: async (job: AnalysisJob): Promise<DocumentView> => {
+        started.push(job.version);
+        const lines = job.text.split('\n').length;
+        const byParts = lines === lastLines;
+        lastLines = lines;
+        return { uri: job.uri, version: job.version, diagnostics: [], analysisMilliseconds: byParts ? 5 : 1500, ...(byParts ? { byParts: true } : {}) } as unknown as DocumentView;
+      },
+      cancel: () => undefined,
+      stats: () => ({}),
+      dispose: async () => undefined,
+    };
+    const uri = 'file:///t.c';
+    const s = new Scheduler(engine as never, {
+      makeJob: async () => ({ uri, version, path: '/t.c', language: 'c', text, bindings: [], baseline: 'auto', view: {} as AnalysisJob['view'] }),
+      currentVersion: () => version,
+      onView: (v) => published.push(v.version),
+      onError: (_u, e) => { throw e; },
+    });
+    const edit = (t: string): void => {
+      version++;
+      text = t;
+      s.schedule(uri, debounceMs, true, t.split('\n').length);
+    };
+    s.schedule(uri, 0, false, 3);
+    return { s, edit, started, published, sleep: (ms: number) => new Promise((r) => setTimeout(r, ms)) };
+  }
+
+  it('keystrokes within lines are analysed at once once an edit was analysed by parts, whatever the open cost', async () => {
+    const { s, edit, started, published, sleep } = setup(100);
+    await sleep(20);
+    expect(published).toEqual([1]);
+    // The first keystroke after a pause waits the debounce; the ones after it, 30 ms apart, do not.
+    for (const t of ['a1\nb\nc', 'a12\nb\nc', 'a123\nb\nc', 'a1234\nb\nc', 'a12345\nb\nc', 'a123456\nb\nc']) {
+      edit(t);
+      await sleep(30);
+    }
+    await sleep(150);
+    // Versions 2–7: every keystroke after the first is analysed (the first is superseded before its wait ends).
+    expect(started.filter((v) => v > 1)).toEqual([3, 4, 5, 6, 7]);
+    expect(published.at(-1)).toBe(7);
+    s.dispose();
+  });
+
+  it('keystrokes that change the line count, whose analyses are whole and slow, wait for the typing to pause', async () => {
+    const { s, edit, started, published, sleep } = setup(0);
+    await sleep(20);
+    let t = 'a\nb\nc';
+    for (let k = 0; k < 6; k++) {
+      t += '\nx';
+      edit(t);
+      await sleep(30);
+    }
+    await sleep(150);
+    // The first keystroke after the pause is analysed at once (debounce 0); after it only the last
+    // version is: each wait (one and a half gaps) was restarted by the next keystroke.
+    expect(started.filter((v) => v > 1)).toEqual([2, 7]);
+    expect(published.at(-1)).toBe(7);
+    s.dispose();
   });
 });
 

@@ -96,7 +96,7 @@ export function startServer(connection: Connection = createConnection(ProposedFe
     // The first diagnostics of a document while the rest of its project is modelled; the job's
     // own view replaces them (hovers and fixes wait for that one).
     onEarly: (view) => {
-      scheduler.noteEarly(view.uri, view.version, view.analysisMilliseconds);
+      scheduler.noteEarly(view.uri, view.version, view.analysisMilliseconds, view.byParts === true);
       if (documents.get(view.uri)?.version !== view.version || scheduler.latest(view.uri)?.version === view.version) return;
       earlyDiagnostics.set(view.uri, { version: view.version, json: JSON.stringify(view.diagnostics) });
       void connection.sendDiagnostics({ uri: view.uri, version: view.version, diagnostics: view.diagnostics });
@@ -240,13 +240,13 @@ export function startServer(connection: Connection = createConnection(ProposedFe
   const opened = new Map<string, number>();
   documents.onDidOpen((e) => {
     opened.set(e.document.uri, e.document.version);
-    scheduler.schedule(e.document.uri, 0);
+    scheduler.schedule(e.document.uri, 0, false, e.document.lineCount);
   });
   documents.onDidChangeContent(async (e) => {
     if (e.document.version === scheduler.latest(e.document.uri)?.version) return;
     if (opened.get(e.document.uri) === e.document.version) return;
     const s = await config.forDocument(e.document.uri);
-    scheduler.schedule(e.document.uri, s.debounceMs, true);
+    scheduler.schedule(e.document.uri, s.debounceMs, true, e.document.lineCount);
   });
   documents.onDidClose((e) => {
     opened.delete(e.document.uri);

@@ -114,7 +114,7 @@ export const SETTINGS = {
     default: 100,
     scope: 'window',
     usedBy: 'server',
-    markdownDescription: 'Milliseconds of quiet after an edit before the file is analysed again. An edit during an analysis makes that analysis stale (its result is dropped and the analysis thread, with its caches, stays warm), so a short wait costs little.',
+    markdownDescription: 'Milliseconds of quiet after an edit before the file is analysed again. While you type within lines and each keystroke is analysed faster than you type, each keystroke is analysed at once. An edit during an analysis makes that analysis stale (its result is dropped and the analysis thread, with its caches, stays warm), so a short wait costs little.',
   },
   measuredHostProfile: {
     type: 'string',

@@ -12,6 +12,8 @@ export function cTokens(lines: string[]): Tok[] {
   const toks: Tok[] = [];
   let inBlock = false;
   let inDirective = false;
+  // One sticky expression per word, read in place (no slice of the rest of the line per token).
+  const word = /[A-Za-z_0-9.]+/y;
   for (let line = 0; line < lines.length; line++) {
     const l = lines[line];
     let i = 0;
@@ -30,7 +32,7 @@ export function cTokens(lines: string[]): Tok[] {
         continue;
       }
       const ch = l[i];
-      if (/\s/.test(ch)) { i++; continue; }
+      if (ch === ' ' || ch === '\t' || /\s/.test(ch)) { i++; continue; }
       if (ch === '/' && l[i + 1] === '/') break;
       if (ch === '/' && l[i + 1] === '*') { inBlock = true; i += 2; continue; }
       if (ch === '"' || ch === "'") {
@@ -40,7 +42,8 @@ export function cTokens(lines: string[]): Tok[] {
         toks.push({ t: 'lit', line });
         continue;
       }
-      const m = /^[A-Za-z_0-9.]+/.exec(l.slice(i));
+      word.lastIndex = i;
+      const m = word.exec(l);
       if (m) { toks.push({ t: m[0], line }); i += m[0].length; continue; }
       toks.push({ t: ch, line });
       i++;

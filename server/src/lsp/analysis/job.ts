@@ -165,8 +165,9 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   const deps: AnalyzeDeps = { ...grammars, readInclude: readHeader };
   const neighbours = job.neighbours ?? [];
   const total = neighbours.length + 1;
+  let byParts = false;
   const viewInput = (analysis: FileAnalysis) => (
-    { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: performance.now() - t0 }
+    { uri: job.uri, version: job.version, text: job.text, analysis, userBindings: new Map(job.bindings), analysisMilliseconds: performance.now() - t0, byParts }
   );
   const view = (analysis: FileAnalysis): DocumentView => buildView(viewInput(analysis), job.view, () => checkCancelled(hooks));
   // Early views carry the diagnostics only (the server publishes nothing else of them).
@@ -190,7 +191,9 @@ function runJobSteps(job: AnalysisJob, grammars: AnalyzeDeps, hooks?: JobHooks):
   }
   const workspace = neighbours.length > 0 ? modelsOf(job, neighbours, deps, total, hooks) : undefined;
   checkCancelled(hooks);
-  const kept = analyseDocument(job, deps, { ...analyzeOptions(job), ...cancelled, workspace });
+  const document = analyseDocument(job, deps, { ...analyzeOptions(job), ...cancelled, workspace });
+  const kept = document.analysis;
+  byParts = document.byParts;
   // The job's own copy of the findings (linking adds findings and related locations; the kept
   // analysis stays as the core made it).
   const copy = (a: FileAnalysis): FileAnalysis => ({ ...a, findings: a.findings.map((f) => ({ ...f, ...(f.related ? { related: [...f.related] } : {}) })) });
@@ -234,19 +237,21 @@ function inputsOf(job: AnalysisJob): string {
  * of the whole file. The result is the caller's to change (linking adds findings and related
  * locations); the kept base is not shared with it.
  */
-function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOptions): FileAnalysis {
+function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOptions): { analysis: FileAnalysis; byParts: boolean } {
   const input = { path: job.path, text: job.text, language: job.language };
   const inputs = inputsOf(job);
   const ws = options.workspace;
   const kept = documentBases.get(job.path);
   const sameWorkspace = kept !== undefined && kept.inputs === inputs && (kept.workspace ?? []).length === (ws ?? []).length && (ws ?? []).every((m, i) => kept.workspace![i] === m);
   let base: EditBase | undefined;
+  let byParts = false;
   if (sameWorkspace) {
     // A kept analysis whose job went stale before its what-if ran is completed first.
     kept.base.analysis.complete?.();
     const edit = analyzeEdit(kept.base, input, deps, options);
     if (edit) {
       base = edit.base;
+      byParts = true;
       editStats.parts++;
       editStats.lastProcedures = edit.procedures;
     }
@@ -267,7 +272,7 @@ function analyseDocument(job: AnalysisJob, deps: AnalyzeDeps, options: AnalyzeOp
     if (documentBases.size >= MAX_KEPT_DOCUMENTS) documentBases.delete(documentBases.keys().next().value!);
     documentBases.set(job.path, { inputs, workspace: ws, base });
   }
-  return base.analysis;
+  return { analysis: base.analysis, byParts };
 }
 
 /** Drops every kept analysis (tests: a cold job after warm ones). */

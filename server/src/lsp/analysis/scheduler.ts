@@ -34,8 +34,15 @@ export class Scheduler {
   private inFlight = 0;
   private readonly running = new Map<string, number>();
   private readonly lastEdit = new Map<string, number>();
-  /** How long the last analysed version of each document took to its diagnostics (early or final view). */
-  private readonly diagnosticsMs = new Map<string, { version: number; ms: number }>();
+  /**
+   * How long the last analysed version of each document took to its diagnostics (early or final
+   * view), kept apart for analyses by parts and of the whole document: a keystroke that keeps the
+   * line count is re-analysed by parts, so its cost is predicted from the last such analysis, not
+   * from the (much slower) open.
+   */
+  private readonly diagnosticsMs = new Map<string, { version: number; ms: number; parts?: number; whole?: number }>();
+  /** The line count of each document at its last edit (an edit that keeps it is typing inside lines). */
+  private readonly lineCounts = new Map<string, number>();
   /** The last analysis of each open document, keyed by its inputs. */
   readonly cache = new ViewCache();
 
@@ -45,11 +52,14 @@ export class Scheduler {
   ) {}
 
   /**
-   * Analyse `uri` after `delayMs` of quiet; a newer call restarts the wait. `edited`: the text
-   * changed, so a running analysis of the document is stale from now on (not only once the newer
-   * job is sent after the debounce).
+   * Analyse `uri` after `delayMs` of quiet; a newer call restarts the wait. While typing that is
+   * analysed faster than it comes, each keystroke is analysed at once. `edited`: the text changed, so a running analysis of
+   * the document is stale from now on (not only once the newer job is sent after the debounce).
+   * `lineCount`: the document's line count now (an edit that keeps it is re-analysed by parts).
    */
-  schedule(uri: string, delayMs: number, edited = false): void {
+  schedule(uri: string, delayMs: number, edited = false, lineCount?: number): void {
+    const sameLines = lineCount !== undefined && this.lineCounts.get(uri) === lineCount;
+    if (lineCount !== undefined) this.lineCounts.set(uri, lineCount);
     if (edited) {
       this.engine.cancel?.(uri);
       // While the user is typing (edits closer than TYPING_GAP_MS) and the document's diagnostics
@@ -60,8 +70,14 @@ export class Scheduler {
       const now = Date.now();
       const gap = now - (this.lastEdit.get(uri) ?? -Infinity);
       this.lastEdit.set(uri, now);
-      const cost = this.diagnosticsMs.get(uri)?.ms ?? Infinity;
+      const known = this.diagnosticsMs.get(uri);
+      // An edit within lines is re-analysed by parts: until one has been, it is assumed fast.
+      const cost = sameLines ? known?.parts ?? 0 : known?.whole ?? known?.ms ?? Infinity;
       if (gap < TYPING_GAP_MS && cost > gap) delayMs = Math.max(delayMs, Math.min(Math.round(gap * 1.5), TYPING_GAP_MS));
+      // Typing that is analysed faster than it comes (by parts) is analysed at each keystroke:
+      // the wait would only put the diagnostics further behind, and a wait the next keystroke
+      // restarts, or an analysis it makes stale, would give none until the typing stops.
+      else if (gap < TYPING_GAP_MS) delayMs = 0;
     }
     clearTimeout(this.timers.get(uri));
     this.timers.set(
@@ -74,12 +90,18 @@ export class Scheduler {
   }
 
   /** An early view's diagnostics of `version` took `ms` from the job's start (they went out then). */
-  noteEarly(uri: string, version: number, ms: number): void {
-    this.diagnosticsMs.set(uri, { version, ms });
+  noteEarly(uri: string, version: number, ms: number, byParts = false): void {
+    this.note(uri, version, ms, byParts);
+  }
+
+  private note(uri: string, version: number, ms: number, byParts: boolean): void {
+    const was = this.diagnosticsMs.get(uri);
+    this.diagnosticsMs.set(uri, { version, ms, parts: byParts ? ms : was?.parts, whole: byParts ? was?.whole : ms });
   }
 
   forget(uri: string): void {
     this.diagnosticsMs.delete(uri);
+    this.lineCounts.delete(uri);
     clearTimeout(this.timers.get(uri));
     this.timers.delete(uri);
     this.views.delete(uri);
@@ -140,7 +162,7 @@ export class Scheduler {
       // An edit that arrived during the analysis has scheduled a newer one: drop this result.
       this.cache.store(job, view);
       const early = this.diagnosticsMs.get(uri);
-      if (!early || early.version !== view.version) this.diagnosticsMs.set(uri, { version: view.version, ms: view.analysisMilliseconds });
+      if (!early || early.version !== view.version) this.note(uri, view.version, view.analysisMilliseconds, view.byParts === true);
       if (view.version !== this.hooks.currentVersion(uri)) return;
       this.views.set(uri, view);
       this.hooks.onView(view);

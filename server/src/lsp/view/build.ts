@@ -18,6 +18,8 @@ export interface ViewInput {
   analysis: FileAnalysis;
   userBindings: ReadonlyMap<string, number>;
   analysisMilliseconds: number;
+  /** The document was re-analysed by parts from its last analysis (core/incremental.ts). */
+  byParts?: boolean;
 }
 
 /** The diagnostics of the findings (a finding set to `off` has none), and each finding's index among them. */
@@ -42,6 +44,7 @@ export function buildDiagnosticsView(input: ViewInput, o: ViewOptions): Document
     uri: input.uri, version: input.version, diagnostics, hovers: {}, cards: [], lenses: [], inlayHints: [], actions: [], refactors: [],
     planning: buildPlanning({ ...input.analysis, timeLoops: [], nests: [] }, input.uri), estimatesAvailable: false,
     internalErrors: input.analysis.internalErrors.map((e) => e.split('\n')[0]), analysisMilliseconds: input.analysisMilliseconds,
+    ...(input.byParts ? { byParts: true } : {}),
   };
 }
 
@@ -77,5 +80,6 @@ export function buildView(input: ViewInput, o: ViewOptions, check: () => void = 
     estimatesAvailable: hasEstimates(a),
     internalErrors: a.internalErrors.map((e) => e.split('\n')[0]),
     analysisMilliseconds: input.analysisMilliseconds,
+    ...(input.byParts ? { byParts: true } : {}),
   };
 }

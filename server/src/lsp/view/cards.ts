@@ -47,7 +47,7 @@ export function nestCard(r: NestReport, est: NestEstimate | undefined, ctx: View
     ['arithmetic intensity', `${formatIntensity(r.cost.intensity.device)} device · ${formatIntensity(r.cost.intensity.host)} host (flop/byte)`],
   ];
   // What the model could not read here, and what it does to the figures above.
-  for (const x of ctx.analysis.notUnderstood.filter((u) => u.nestLine === line)) rows.push([`not understood (line ${x.line})`, `\`${x.what.replace(/`/g, '')}\`: ${x.effect}`]);
+  for (const x of ctx.notUnderstoodAt(line)) rows.push([`not understood (line ${x.line})`, `\`${x.what.replace(/`/g, '')}\`: ${x.effect}`]);
   if (est) {
     const versus = est.baseline === 'core' ? 'one core' : 'the whole node';
     rows.push([`host time (${versus})`, formatSeconds(est.hostSeconds)], ['device time (one kernel, launch included, no transfers)', formatSeconds(est.deviceSeconds)]);

@@ -7,6 +7,7 @@ import * as S from '../../core/symbolic';
 import type { FileAnalysis } from '../../core/analyze';
 import { type BindingMap, callSiteBindings, procedureBindings } from '../../core/analysis/bindings';
 import type { Declaration, Procedure } from '../../core/model/program';
+import { findByName } from '../../core/model/names';
 import type { Range, VarRef } from '../../core/types';
 import { containsRange } from './ranges';
 
@@ -49,8 +50,22 @@ export class ViewContext {
   }
 
   declarationOf(name: string, proc: Procedure | undefined): Declaration | undefined {
-    const own = proc ? [...proc.params, ...proc.locals].find((d) => d.name === name) : undefined;
-    return own ?? this.analysis.model.globals.find((d) => d.name === name);
+    const own = proc ? findByName(proc.params, name) ?? findByName(proc.locals, name) : undefined;
+    return own ?? findByName(this.analysis.model.globals, name);
+  }
+
+  private notUnderstoodByNest?: Map<number, FileAnalysis['notUnderstood']>;
+  /** What the model could not read in the nest at a line (grouped once per view). */
+  notUnderstoodAt(nestLine: number): FileAnalysis['notUnderstood'] {
+    if (!this.notUnderstoodByNest) {
+      this.notUnderstoodByNest = new Map();
+      for (const u of this.analysis.notUnderstood) {
+        const list = this.notUnderstoodByNest.get(u.nestLine);
+        if (list) list.push(u);
+        else this.notUnderstoodByNest.set(u.nestLine, [u]);
+      }
+    }
+    return this.notUnderstoodByNest.get(nestLine) ?? [];
   }
 
   /** The free symbols of an expression with the values the procedure binds them to (undefined when unbound). */

@@ -37,6 +37,8 @@ export interface DocumentView {
   /** First lines of internal errors of the core (logged by the server, never shown as findings). */
   internalErrors: string[];
   analysisMilliseconds: number;
+  /** The document was re-analysed by parts from its last analysis (the scheduler predicts a keystroke's cost from it). */
+  byParts?: boolean;
 }
 
 /** Settings-derived inputs of the view (everything except the analysis itself). */
