@@ -45,7 +45,12 @@ function isLoop(model: Model, construct: string): boolean {
   return model === 'acc' ? /(^|\s)loop$/.test(construct) : OMP_LOOP.test(construct) && !construct.startsWith('declare');
 }
 
-export function translateDirectives(text: string, language: Language, to: Target, opts: { fixedForm?: boolean } = {}): TranslateResult {
+/**
+ * `opts.check` is called every few thousand lines and every few dozen directives: an editor that
+ * no longer needs the result (a newer edit) throws there, so a large file's translation does not
+ * hold the analysis thread.
+ */
+export function translateDirectives(text: string, language: Language, to: Target, opts: { fixedForm?: boolean; check?: () => void } = {}): TranslateResult {
   const { lines, eol } = splitLines(text);
   const fixed = language === 'fortran' && !!opts.fixedForm;
   const fortran = language === 'fortran';
@@ -65,13 +70,15 @@ export function translateDirectives(text: string, language: Language, to: Target
     return fixed ? `! ${NOTE_TAG} ${m}` : `${indent}! ${NOTE_TAG} ${m}`;
   };
 
-  const cs = fortran ? undefined : cStructure(lines);
+  const cs = fortran ? undefined : cStructure(lines, opts.check);
   const unitDepth = fortran ? fortranUnitDepth(lines, fixed) : undefined;
 
   // Parse every directive of both models; the other model's directives give context only.
   const parsed: Parsed[] = [];
   const blockStack: Parsed[] = [];
+  let seen = 0;
   for (const d of findDirectives(lines, language, fixed)) {
+    if ((++seen & 63) === 0) opts.check?.();
     const items = parseItems(d.segments);
     const sc = items && splitConstruct(d.model, items);
     if (!sc) {

@@ -8,13 +8,14 @@
 interface Tok { t: string; line: number }
 
 /** C/C++ tokens with their line: identifiers, numbers and single punctuation characters. */
-export function cTokens(lines: string[]): Tok[] {
+export function cTokens(lines: string[], check?: () => void): Tok[] {
   const toks: Tok[] = [];
   let inBlock = false;
   let inDirective = false;
   // One sticky expression per word, read in place (no slice of the rest of the line per token).
   const word = /[A-Za-z_0-9.]+/y;
   for (let line = 0; line < lines.length; line++) {
+    if ((line & 4095) === 4095) check?.();
     const l = lines[line];
     let i = 0;
     if (!inBlock && !inDirective && /^\s*#/.test(l)) inDirective = true;
@@ -114,8 +115,8 @@ export interface CStructure {
   tokensBetween(fromLine: number, toLine: number): string[];
 }
 
-export function cStructure(lines: string[]): CStructure {
-  const toks = cTokens(lines);
+export function cStructure(lines: string[], check?: () => void): CStructure {
+  const toks = cTokens(lines, check);
   const first = (afterLine: number): number => {
     let lo = 0;
     let hi = toks.length;

@@ -63,9 +63,9 @@ export function buildView(input: ViewInput, o: ViewOptions, check: () => void = 
   const inlayHints = o.inlayHints ? buildInlayHints(a) : [];
   const actions = buildActions(a, input.text, (k) => diagnosticIndex.get(k));
   check();
-  const refactors = buildRefactors(a, input.text);
+  const refactors = buildRefactors(a, input.text, check);
   check();
-  const planning = buildPlanning(a, input.uri);
+  const planning = buildPlanning(a, input.uri, check);
   return {
     uri: input.uri,
     version: input.version,

@@ -18,7 +18,7 @@ import { fileReport, jsonQuantity } from '../../core/report';
 import type { PlanningFile, PlanningFinding, PlanningMachine, PlanningNestShare, PlanningStep, ReportLoop, ReportTimeLoop, ReportTransfer } from '../protocol';
 import { nestEstimate, stepEstimate } from './estimates';
 
-export function buildPlanning(a: FileAnalysis, uri: string): PlanningFile {
+export function buildPlanning(a: FileAnalysis, uri: string, check: () => void = () => undefined): PlanningFile {
   const r = fileReport(a) as { path: string; language: string; loops: ReportLoop[]; timeLoops: ReportTimeLoop[]; findings: PlanningFinding[] };
   const loops = r.loops.map((l, k) => {
     const est = nestEstimate(a.nests[k]);
@@ -32,6 +32,7 @@ export function buildPlanning(a: FileAnalysis, uri: string): PlanningFile {
   // Every suggested edit of the file went into the one what-if analysis, so lines map back through all of them.
   const edits = reported.flatMap((t) => t.ledger!.dataRegion?.edits ?? []);
   const timeLoops = r.timeLoops.map((t, k) => {
+    if ((k & 15) === 15) check();
     const est = reported[k] ? stepEstimate(reported[k]) : undefined;
     const withEstimate = t.estimate || !est ? t : { ...t, estimate: est };
     const step = reported[k] ? planningStep(a, reported[k], all, edits, baseline) : undefined;

@@ -41,7 +41,8 @@ export function lineDiffEdits(before: string, after: string): TextEdit[] {
   return edits;
 }
 
-export function buildRefactors(a: FileAnalysis, text: string): RefactorEntry[] {
+/** `check` is called while the translation runs (the editor's job throws there once the view is stale). */
+export function buildRefactors(a: FileAnalysis, text: string, check?: () => void): RefactorEntry[] {
   const out: RefactorEntry[] = [];
   if (a.port && a.port.text !== text) {
     const edits = lineDiffEdits(text, a.port.text);
@@ -59,7 +60,7 @@ export function buildRefactors(a: FileAnalysis, text: string): RefactorEntry[] {
   const families = new Set(a.model.directives.filter((d) => d.family === 'openacc' || d.construct.startsWith('target')).map((d) => d.family));
   if (families.size === 1) {
     const to = families.has('openacc') ? 'openmp' : 'openacc';
-    const t = translateDirectives(text, a.language === 'fortran' ? 'fortran' : a.language === 'cpp' ? 'cpp' : 'c', to, { fixedForm: /\.(f|for|ftn|f77)$/i.test(a.path) });
+    const t = translateDirectives(text, a.language === 'fortran' ? 'fortran' : a.language === 'cpp' ? 'cpp' : 'c', to, { fixedForm: /\.(f|for|ftn|f77)$/i.test(a.path), ...(check ? { check } : {}) });
     if (t.changed > 0) {
       const whole = { start: { line: 0, character: 0 }, end: { line: text.split('\n').length, character: 0 } };
       out.push({
