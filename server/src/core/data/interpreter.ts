@@ -530,6 +530,20 @@ export class DataInterpreter {
   }
 
   private hostAccesses(accesses: ArrayAccess[], s: Stmt, ctx: Ctx): void {
+    // A run for entry states (entriesFrom) keeps presence, counts and transfers only: which side
+    // holds newer elements is not carried into the procedure, and its findings are not kept. The
+    // arrays' infos are still made where a full run makes them (an info is made once, from the
+    // frame that first touches the array).
+    if (this.captureAt) {
+      for (const a of accesses) {
+        if (!this.isArray(a.array, ctx.frame)) continue;
+        const key = this.key(a.array, ctx.frame);
+        if (this.devicePointers.has(key)) continue;
+        this.info(key, ctx.frame, a.array);
+        this.env.state(key);
+      }
+      return;
+    }
     for (const a of accesses) {
       if (!this.isArray(a.array, ctx.frame)) continue;
       const key = this.key(a.array, ctx.frame);
@@ -661,21 +675,8 @@ export class DataInterpreter {
     const privates = privateNames(d);
     const mode = defaultMode(d);
     const implicit: { key: string; section: Section; allocation: number }[] = [];
-    const ranges = deviceRanges(s, ctx.frame.bindings);
-    const reads = new Map<string, Region>();
-    const writes = new Map<string, Region>();
-    walkStatements([s], (x) => {
-      for (const a of accessesOfStatement(x)) {
-        if (!this.isArray(a.array, ctx.frame) || privates.has(a.array)) continue;
-        const key = this.key(a.array, ctx.frame);
-        if (this.devicePointers.has(key)) continue;
-        const info = this.info(key, ctx.frame, a.array);
-        const region = accessRegion(a, info, ranges, ctx.frame.bindings);
-        if (a.isRead) reads.set(key, union(reads.get(key) ?? [], region));
-        if (a.isWrite) writes.set(key, union(writes.get(key) ?? [], region));
-        if (ctx.run) ctx.run.deviceUsed.add(key);
-      }
-    });
+    const { reads, writes, used } = this.constructAccesses(s, d, privates, ctx.frame);
+    if (ctx.run) for (const key of used) ctx.run.deviceUsed.add(key);
     // Implicit data attributes for arrays named in no clause (OpenACC 3.3 §2.6.2; OpenMP 5.2 §5.8.1).
     for (const key of new Set([...reads.keys(), ...writes.keys()])) {
       if (named.has(key)) continue;
@@ -738,6 +739,42 @@ export class DataInterpreter {
       }
     }
     this.exitClauses(d, entered, ctx, 'clause', true);
+  }
+
+  /**
+   * The elements a compute construct reads and writes, per array key. Kept per construct with the
+   * frame, names and sizes they were read with: a time loop's second pass (and any later pass
+   * with the same names) reuses the first pass's regions instead of reading every access again.
+   * Names change copy-on-write (aliases, swaps) and device pointers only grow, so a changed map
+   * or pointer count means the regions are read again.
+   */
+  private readonly accessesByConstruct = new WeakMap<Stmt, {
+    d: Directive; frame: Frame; rename: Map<string, string>; bindings: Map<string, S.Expr>; pointers: number;
+    reads: Map<string, Region>; writes: Map<string, Region>; used: Set<string>;
+  }>();
+
+  private constructAccesses(s: Stmt, d: Directive, privates: ReadonlySet<string>, frame: Frame): { reads: Map<string, Region>; writes: Map<string, Region>; used: Set<string> } {
+    const hit = this.accessesByConstruct.get(s);
+    if (hit && hit.d === d && hit.frame === frame && hit.rename === frame.rename && hit.bindings === frame.bindings && hit.pointers === this.devicePointers.size) return hit;
+    const ranges = this.captureAt ? new Map() : deviceRanges(s, frame.bindings);
+    const reads = new Map<string, Region>();
+    const writes = new Map<string, Region>();
+    const used = new Set<string>();
+    walkStatements([s], (x) => {
+      for (const a of accessesOfStatement(x)) {
+        if (!this.isArray(a.array, frame) || privates.has(a.array)) continue;
+        const key = this.key(a.array, frame);
+        if (this.devicePointers.has(key)) continue;
+        // A run for entry states needs which arrays a construct uses, not which elements.
+        const info = this.info(key, frame, a.array);
+        const region = this.captureAt ? [] : accessRegion(a, info, ranges, frame.bindings);
+        if (a.isRead) reads.set(key, union(reads.get(key) ?? [], region));
+        if (a.isWrite) writes.set(key, union(writes.get(key) ?? [], region));
+        used.add(key);
+      }
+    });
+    this.accessesByConstruct.set(s, { d, frame, rename: frame.rename, bindings: frame.bindings, pointers: this.devicePointers.size, reads, writes, used });
+    return { reads, writes, used };
   }
 
   /**
