@@ -20,6 +20,7 @@ import { parseItems, splitConstruct } from '../server/src/core/translate/clauses
 import { findDirectives, splitLines } from '../server/src/core/translate/scan';
 import { runTranslate } from '../server/src/cli/translate';
 import { ROOT, analyzeText } from './helpers';
+import { translatesAlike } from '../server/src/lsp/view/refactors';
 
 const tmp = mkdtempSync(join(tmpdir(), 'ol-translate-'));
 const read = (rel: string) => readFileSync(join(ROOT, rel), 'utf8');
@@ -467,3 +468,61 @@ function applyEdits(text: string, edits: { range: { start: { line: number; chara
   }
   return out;
 }
+
+// The editor keeps a document's last translation while typing changes only code lines
+// (server/src/lsp/view/refactors.ts translatesAlike): checked here against the translator
+// itself on random edits of every C/C++ example and fixture with directives.
+describe('the editor keeps a translation while code lines change', () => {
+  const files = [...spawnSync('git', ['ls-files', 'examples', 'tests/fixtures'], { cwd: ROOT, encoding: 'utf8' }).stdout.split('\n')]
+    .filter((f) => /\.(c|cpp|cc)$/.test(f)).filter((f) => /#\s*pragma\s+(acc|omp)/.test(read(f)));
+  it('finds C and C++ sources with directives', () => {
+    expect(files.length).toBeGreaterThan(10);
+  });
+  // A small deterministic generator, so a failure repeats.
+  let seed = 7;
+  const rand = (n: number): number => {
+    seed = (seed * 1103515245 + 12345) & 0x7fffffff;
+    return seed % n;
+  };
+  const edits = [
+    (l: string) => l.replace(/\b[A-Za-z_]\w*\b(?!.*\b(for|if|while|do|else|switch)\b)/, 'zq'),
+    (l: string) => l.replace(/\d+(\.\d+)?/, '17'),
+    (l: string) => l.replace(/;\s*$/, ''),
+    (l: string) => l.replace(/\)/, ') + 1'),
+    (l: string) => `${l} /* typed */`,
+    (l: string) => l.replace(/\bfor\b/, 'zfor'),
+    (l: string) => l.replace(/\]/, ' + 2]'),
+    (l: string) => l.replace(/\+/, '-'),
+    (l: string) => l.replace(/=/, '= {'),
+    (l: string) => l.replace(/\w+/, '"s"'),
+    (l: string) => l.replace(/;/, '; x = 1;'),
+  ];
+  it('whenever it keeps one, a fresh translation makes the same edits and notes (both directions)', () => {
+    let kept = 0;
+    let fresh = 0;
+    for (const f of files) {
+      const text = read(f);
+      const lang = f.endsWith('.c') ? 'c' : 'cpp';
+      for (const to of ['openmp', 'openacc'] as const) {
+        const base = translateDirectives(text, lang, to);
+        if (base.changed === 0) continue;
+        for (let k = 0; k < 12; k++) {
+          const lines = text.split('\n');
+          for (let e = 1 + rand(3); e > 0; e--) {
+            const i = rand(lines.length);
+            lines[i] = edits[rand(edits.length)](lines[i]);
+          }
+          const after = lines.join('\n');
+          if (!translatesAlike(text, after, to)) { fresh++; continue; }
+          kept++;
+          const t = translateDirectives(after, lang, to);
+          const changedLines = lines.flatMap((l, i) => (l === text.split('\n')[i] ? [] : [`${i + 1}: ${text.split('\n')[i]} → ${l}`]));
+          expect({ edits: t.edits, notes: t.notes, changed: t.changed }, `${f} → ${to}, edit ${k}: ${changedLines.join(' | ')}`).toEqual({ edits: base.edits, notes: base.notes, changed: base.changed });
+        }
+      }
+    }
+    // Both answers were exercised.
+    expect(kept).toBeGreaterThan(50);
+    expect(fresh).toBeGreaterThan(50);
+  });
+});

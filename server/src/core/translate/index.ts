@@ -46,6 +46,23 @@ function isLoop(model: Model, construct: string): boolean {
 }
 
 /**
+ * The names the translation reads from code lines: C pointers (declared `T *p`) and procedures.
+ * (Besides them it reads code lines only for where statements end, the names used inside each
+ * directive's region, and the models' API calls and headers.)
+ */
+export function translationNames(text: string, fortran: boolean): { pointerNames: Set<string>; functionNames: Set<string> } {
+  const pointerNames = new Set<string>();
+  const functionNames = new Set<string>();
+  if (!fortran) {
+    for (const m of text.matchAll(/\b(?:float|double|int|char|long|short|unsigned|signed|size_t|void|bool|_Bool|[A-Za-z_]\w*_t)\s*\*+\s*(?:(?:const|restrict|__restrict__|__restrict)\s+)*([A-Za-z_]\w*)/g)) pointerNames.add(m[1]);
+    for (const m of text.matchAll(/^[A-Za-z_][\w\s\*]*?\b([A-Za-z_]\w*)\s*\([^;{}]*\)\s*(?:\{|;|$)/gm)) functionNames.add(m[1]);
+  } else {
+    for (const m of text.matchAll(/\b(?:subroutine|function)\s+([A-Za-z_]\w*)/gi)) functionNames.add(m[1].toLowerCase());
+  }
+  return { pointerNames, functionNames };
+}
+
+/**
  * `opts.check` is called every few thousand lines and every few dozen directives: an editor that
  * no longer needs the result (a newer edit) throws there, so a large file's translation does not
  * hold the analysis thread.
@@ -109,14 +126,7 @@ export function translateDirectives(text: string, language: Language, to: Target
   const contains = (outer: Parsed, line: number) => outer.d.endLine < line && line <= outer.regionEnd;
 
   // Names for the notes and for declare target lists.
-  const pointerNames = new Set<string>();
-  const functionNames = new Set<string>();
-  if (!fortran) {
-    for (const m of text.matchAll(/\b(?:float|double|int|char|long|short|unsigned|signed|size_t|void|bool|_Bool|[A-Za-z_]\w*_t)\s*\*+\s*(?:(?:const|restrict|__restrict__|__restrict)\s+)*([A-Za-z_]\w*)/g)) pointerNames.add(m[1]);
-    for (const m of text.matchAll(/^[A-Za-z_][\w\s\*]*?\b([A-Za-z_]\w*)\s*\([^;{}]*\)\s*(?:\{|;|$)/gm)) functionNames.add(m[1]);
-  } else {
-    for (const m of text.matchAll(/\b(?:subroutine|function)\s+([A-Za-z_]\w*)/gi)) functionNames.add(m[1].toLowerCase());
-  }
+  const { pointerNames, functionNames } = translationNames(text, fortran);
 
   /** Contiguous note lines (from an earlier translation) directly above a line. */
   const noteLinesAbove = (line: number): number[] => {

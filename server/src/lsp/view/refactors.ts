@@ -6,7 +6,7 @@
  */
 import type { Range, TextEdit } from 'vscode-languageserver-protocol';
 import type { FileAnalysis } from '../../core/analyze';
-import { translateDirectives } from '../../core/translate';
+import { type Target, type TranslateResult, translateDirectives, translationNames } from '../../core/translate';
 import { diffLines } from '../../core/translate/diff';
 import { formatFactor, formatSpeedup } from './format';
 import { toLspRange } from './ranges';
@@ -42,6 +42,81 @@ export function lineDiffEdits(before: string, after: string): TextEdit[] {
 }
 
 /** `check` is called while the translation runs (the editor's job throws there once the view is stale). */
+type Translated = Pick<TranslateResult, 'changed' | 'notes' | 'edits'>;
+
+/**
+ * The last translation of each document (per thread), with the lines it was made from. Typing
+ * inside code lines mostly leaves what the translation does unchanged, so a C or C++ text whose
+ * lines differ from the kept one only in such lines (translatesAlike) gets the kept result (the
+ * same edits and notes) without translating the whole file again.
+ */
+const translations = new Map<string, { text: string; key: string; result: Translated }>();
+const MAX_TRANSLATIONS = 16;
+
+function translationOf(path: string, text: string, language: 'c' | 'cpp' | 'fortran', to: Target, fixedForm: boolean, check?: () => void): Translated {
+  const key = `${language}\n${to}\n${fixedForm}`;
+  const kept = translations.get(path);
+  if (kept && kept.key === key && language !== 'fortran' && translatesAlike(kept.text, text, to)) {
+    kept.text = text;
+    return kept.result;
+  }
+  const t = translateDirectives(text, language, to, { fixedForm, ...(check ? { check } : {}) });
+  const result: Translated = { changed: t.changed, notes: t.notes, edits: t.edits };
+  translations.delete(path);
+  if (translations.size >= MAX_TRANSLATIONS) translations.delete(translations.keys().next().value!);
+  translations.set(path, { text, key, result });
+  return result;
+}
+
+/** Words that decide where a C statement ends (translate/structure.ts skipStatement). */
+const STATEMENT_WORDS = new Set(['for', 'while', 'switch', 'if', 'else', 'do']);
+
+/**
+ * The tokens of a C line as translate/structure.ts reads them, with names and numbers made alike
+ * (`w`) but for the statement keywords: brackets, braces, semicolons, operators, literals and
+ * comment marks stay. (Where a statement ends can turn on any of them: `for (…) + 1 {` is not
+ * `for (…) {`.)
+ */
+function structure(l: string): string[] {
+  const toks = l.match(/"(?:[^"\\]|\\.)*"?|'(?:[^'\\]|\\.)*'?|\/\*|\*\/|\/\/.*$|[A-Za-z_0-9.]+|\S/g) ?? [];
+  return toks.map((t) => (t.startsWith('"') || t.startsWith("'") ? 'lit' : t.startsWith('//') ? '//' : /^[A-Za-z_0-9.]/.test(t) && !STATEMENT_WORDS.has(t) ? 'w' : t));
+}
+
+/**
+ * Whether two C/C++ texts translate alike. The translation reads code lines only for where
+ * statements and declarations end, for the pointer and procedure names the file declares, for
+ * the pointers used in each directive's region (to OpenACC), for the declarations under `declare`
+ * directives, and for the models' API calls and headers. So two texts translate alike when
+ * neither has a `declare` directive, they declare the same pointers and procedures, they have
+ * the same number of lines, and every line that differs is code in both (not a preprocessor line
+ * or its continuation, nothing naming either model, an API call, or a pointer when translating
+ * to OpenACC) with the same tokens but for names and numbers. tests/translate.test.ts checks this against fresh
+ * translations of random edits.
+ */
+export function translatesAlike(beforeText: string, afterText: string, to: Target): boolean {
+  const declare = /^[ \t]*#[ \t]*pragma[ \t]+(acc|omp)\b.*\bdeclare\b/m;
+  if (declare.test(beforeText) || declare.test(afterText)) return false;
+  const before = beforeText.split('\n');
+  const after = afterText.split('\n');
+  if (before.length !== after.length) return false;
+  const namesBefore = translationNames(beforeText, false);
+  const namesAfter = translationNames(afterText, false);
+  const same = (x: Set<string>, y: Set<string>): boolean => x.size === y.size && [...x].every((n) => y.has(n));
+  if (!same(namesBefore.pointerNames, namesAfter.pointerNames) || !same(namesBefore.functionNames, namesAfter.functionNames)) return false;
+  // Pointers used in a region matter only to OpenMP → OpenACC (its notes on zero-length sections).
+  const pointers = to === 'openacc' ? namesBefore.pointerNames : new Set<string>();
+  const code = (l: string): boolean => !/^\s*#/.test(l) && !/acc|omp|declare|_Pragma/i.test(l) && !/\\\s*$/.test(l) && !(l.match(/[A-Za-z_]\w*/g) ?? []).some((w) => pointers.has(w));
+  const shape = (l: string): string => structure(l).join(' ');
+  for (let i = 0; i < after.length; i++) {
+    const x = before[i];
+    const y = after[i];
+    if (x === y) continue;
+    if (!code(x) || !code(y) || shape(x) !== shape(y)) return false;
+    if (i > 0 && (/\\\s*$/.test(before[i - 1]) || /\\\s*$/.test(after[i - 1]))) return false;
+  }
+  return true;
+}
+
 export function buildRefactors(a: FileAnalysis, text: string, check?: () => void): RefactorEntry[] {
   const out: RefactorEntry[] = [];
   if (a.port && a.port.text !== text) {
@@ -60,7 +135,7 @@ export function buildRefactors(a: FileAnalysis, text: string, check?: () => void
   const families = new Set(a.model.directives.filter((d) => d.family === 'openacc' || d.construct.startsWith('target')).map((d) => d.family));
   if (families.size === 1) {
     const to = families.has('openacc') ? 'openmp' : 'openacc';
-    const t = translateDirectives(text, a.language === 'fortran' ? 'fortran' : a.language === 'cpp' ? 'cpp' : 'c', to, { fixedForm: /\.(f|for|ftn|f77)$/i.test(a.path), ...(check ? { check } : {}) });
+    const t = translationOf(a.path, text, a.language === 'fortran' ? 'fortran' : a.language === 'cpp' ? 'cpp' : 'c', to, /\.(f|for|ftn|f77)$/i.test(a.path), check);
     if (t.changed > 0) {
       const whole = { start: { line: 0, character: 0 }, end: { line: text.split('\n').length, character: 0 } };
       out.push({
