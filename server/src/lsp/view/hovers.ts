@@ -5,11 +5,11 @@
  * clause beats the directive around it.
  */
 import type { Range } from 'vscode-languageserver-protocol';
-import type { FileAnalysis } from '../../core/analyze';
+import type { FileAnalysis, NestReport, TimeLoopReport } from '../../core/analyze';
 import type { TimeLoopLedger, TransferReport } from '../../core/data/ledger';
 import type { LoopStmt, Stmt } from '../../core/model/program';
 import { accessesOfStatement, walkStatements } from '../../core/model/values';
-import type { Range as CoreRange, VarRef } from '../../core/types';
+import type { Directive, Range as CoreRange, VarRef } from '../../core/types';
 import { arrayCard, nestCard, notTimeLoopCard, timeLoopCard, type CardSettings } from './cards';
 import type { ViewContext } from './context';
 import { nestEstimate, stepEstimate } from './estimates';
@@ -20,6 +20,18 @@ export interface HoverIndex {
   hovers: Record<number, HoverEntry[]>;
   cards: string[];
 }
+
+/**
+ * What a nest, time loop or directive contributes to the hovers, kept with the report it was
+ * made from. An edit re-analysed by parts (core/incremental.ts) keeps the reports of every
+ * procedure it did not touch, and a report is kept only when nothing it depends on changed (the
+ * part holds every procedure sharing a name with the edited ones), so its cards still hold; the
+ * settings and file-wide facts the cards also show are in `key`.
+ */
+interface NestPiece { key: string; card?: string; accesses?: { array: string; start: CoreRange['start'] }[]; arrays: Map<string, string> }
+const nestPieces = new WeakMap<NestReport, NestPiece>();
+const timePieces = new WeakMap<TimeLoopReport, { key: string; card: string }>();
+const clausePieces = new WeakMap<Directive, { key: string; cards: Map<string, string> }>();
 
 /** `check` is called every few dozen cards (the editor's job stops there once the view is stale). */
 export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, check: () => void = () => undefined): HoverIndex {
@@ -38,6 +50,12 @@ export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, 
   const add = (r: CoreRange, id: number): void => {
     const range = toLspRange(r);
     for (let line = range.start.line; line <= range.end.line; line++) (out.hovers[line] ??= []).push({ range, card: id });
+  };
+  const memoKey = JSON.stringify([s.profileName, s.baseline, a.baseline, a.baselineReason ?? '', [...ctx.userBindings]]);
+  const nestPiece = (r: NestReport): NestPiece => {
+    let p = nestPieces.get(r);
+    if (!p || p.key !== memoKey) nestPieces.set(r, (p = { key: memoKey, arrays: new Map() }));
+    return p;
   };
   // The time loops that matter at a position: those of the procedure it is in, and those whose
   // transfers happen there through a call. Indexed once: a file may hold a thousand time loops.
@@ -62,7 +80,8 @@ export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, 
 
   // Loop nests: every loop keyword of the nest and the directive that offloads it.
   a.nests.forEach((r, k) => {
-    const id = card(`nest:${k}`, () => nestCard(r, nestEstimate(r), ctx, s));
+    const piece = nestPiece(r);
+    const id = card(`nest:${k}`, () => (piece.card ??= nestCard(r, nestEstimate(r), ctx, s)));
     for (const loop of loopsOf(r.nest.root)) if (!loop.implied) add(loop.keywordRange, id);
     if (r.nest.offload) add(r.nest.offload.range, id);
     for (const d of r.nest.root.directives) if (d !== r.nest.offload) add(d.range, id);
@@ -70,7 +89,13 @@ export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, 
 
   // Time loops.
   a.timeLoops.forEach((t, k) => {
-    const id = card(`time:${k}`, () => timeLoopCard(t, stepEstimate(t), ctx, s));
+    const id = card(`time:${k}`, () => {
+      const kept = timePieces.get(t);
+      if (kept && kept.key === memoKey) return kept.card;
+      const text = timeLoopCard(t, stepEstimate(t), ctx, s);
+      timePieces.set(t, { key: memoKey, card: text });
+      return text;
+    });
     add(t.timeLoop.loop.keywordRange, id);
   });
 
@@ -82,13 +107,21 @@ export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, 
 
   // Array names in clauses: the transfers this clause makes, and the array's totals.
   for (const d of a.model.directives) {
+    let kept = clausePieces.get(d);
+    if (!kept || kept.key !== memoKey) clausePieces.set(d, (kept = { key: memoKey, cards: new Map() }));
+    const cards = kept.cards;
     for (const c of d.clauses) {
       for (const v of c.vars ?? []) {
-        const proc = ctx.procedureAt(v.range);
-        const here = [...(transfersAt.get(key(v.range)) ?? []), ...(transfersAt.get(key(d.range)) ?? []).filter((t) => !t.at)].filter((t) => t.array === v.name);
-        const id = card(`var:${v.range.start.line}:${v.range.start.col}`, () =>
-          arrayCard({ name: v.name, size: ctx.arraySize(v.name, proc, v), here, all: transfersOf(v.name, v.range) }),
-        );
+        const at = `${v.range.start.line}:${v.range.start.col}`;
+        const id = card(`var:${at}`, () => {
+          const known = cards.get(at);
+          if (known !== undefined) return known;
+          const proc = ctx.procedureAt(v.range);
+          const here = [...(transfersAt.get(key(v.range)) ?? []), ...(transfersAt.get(key(d.range)) ?? []).filter((t) => !t.at)].filter((t) => t.array === v.name);
+          const text = arrayCard({ name: v.name, size: ctx.arraySize(v.name, proc, v), here, all: transfersOf(v.name, v.range) });
+          cards.set(at, text);
+          return text;
+        });
         add(nameRange(v), id);
       }
     }
@@ -96,25 +129,38 @@ export function buildHovers(a: FileAnalysis, ctx: ViewContext, s: CardSettings, 
 
   // Array names in loop bodies: the array card with this nest's stencil facts.
   a.nests.forEach((r, k) => {
-    walk(r.nest.root.body, (s) => {
-      for (const acc of accessesOfStatement(s)) {
+    const piece = nestPiece(r);
+    piece.accesses ??= accessStarts(r);
+    for (const acc of piece.accesses) {
+      const id = card(`acc:${k}:${acc.array}`, () => {
+        const known = piece.arrays.get(acc.array);
+        if (known !== undefined) return known;
         const fp = r.cost.footprints.find((f) => f.array === acc.array);
-        const id = card(`acc:${k}:${acc.array}`, () =>
-          arrayCard({
-            name: acc.array,
-            size: ctx.arraySize(acc.array, r.nest.procedure),
-            here: [],
-            all: transfersOf(acc.array, r.nest.root.range),
-            footprint: fp ? { reads: fp.reads, writes: fp.writes, radius: fp.radius, inPlace: fp.inPlace } : undefined,
-          }),
-        );
-        const start = acc.range.start;
-        add({ start, end: { line: start.line, col: start.col + acc.array.length } }, id);
-      }
-    });
+        const text = arrayCard({
+          name: acc.array,
+          size: ctx.arraySize(acc.array, r.nest.procedure),
+          here: [],
+          all: transfersOf(acc.array, r.nest.root.range),
+          footprint: fp ? { reads: fp.reads, writes: fp.writes, radius: fp.radius, inPlace: fp.inPlace } : undefined,
+        });
+        piece.arrays.set(acc.array, text);
+        return text;
+      });
+      const start = acc.start;
+      add({ start, end: { line: start.line, col: start.col + acc.array.length } }, id);
+    }
   });
 
   return out;
+}
+
+/** Where each array access of a nest's body starts, in statement order. */
+function accessStarts(r: NestReport): { array: string; start: CoreRange['start'] }[] {
+  const list: { array: string; start: CoreRange['start'] }[] = [];
+  walk(r.nest.root.body, (s) => {
+    for (const acc of accessesOfStatement(s)) list.push({ array: acc.array, start: acc.range.start });
+  });
+  return list;
 }
 
 /** The hover under a position: the smallest range that contains it. */
