@@ -31,11 +31,13 @@ export function buildPlanning(a: FileAnalysis, uri: string, check: () => void = 
   const all = a.externalNests.length > 0 ? [...a.nests, ...a.externalNests] : a.nests;
   // Every suggested edit of the file went into the one what-if analysis, so lines map back through all of them.
   const edits = reported.flatMap((t) => t.ledger!.dataRegion?.edits ?? []);
+  // A time loop's step is kept with its report (see keptStep); the edits map lines back for every loop.
+  const stepKey = JSON.stringify([baseline, a.profile.name, a.path, edits]);
   const timeLoops = r.timeLoops.map((t, k) => {
     if ((k & 15) === 15) check();
     const est = reported[k] ? stepEstimate(reported[k]) : undefined;
     const withEstimate = t.estimate || !est ? t : { ...t, estimate: est };
-    const step = reported[k] ? planningStep(a, reported[k], all, edits, baseline) : undefined;
+    const step = reported[k] ? keptStep(reported[k], stepKey, () => planningStep(a, reported[k], all, edits, baseline)) : undefined;
     return step ? { ...withEstimate, step } : withEstimate;
   });
   return {
@@ -64,6 +66,21 @@ export function machineRoofs(p: MachineProfile, baseline: Baseline): PlanningMac
     device: { name: p.device.name, bandwidth: p.device.bandwidth, peakDouble: p.device.peakFlops, peakSingle: p.device.peakFlopsSingle },
     link: { name: p.link.name, bandwidth: p.link.bandwidth },
   };
+}
+
+/**
+ * The planning step of a time loop, kept with its report: an edit re-analysed by parts
+ * (core/incremental.ts) keeps the reports of the procedures it did not touch, with every nest and
+ * ledger they read, so their steps still hold while the baseline, the profile and the file's
+ * suggested edits (which map the what-if's lines back) are the same (`key`).
+ */
+const keptSteps = new WeakMap<TimeLoopReport, { key: string; step: PlanningStep | undefined }>();
+function keptStep(t: TimeLoopReport, key: string, make: () => PlanningStep | undefined): PlanningStep | undefined {
+  const hit = keptSteps.get(t);
+  if (hit && hit.key === key) return hit.step;
+  const step = make();
+  keptSteps.set(t, { key, step });
+  return step;
 }
 
 /** Where a nest is reported: its file (another file's for a kernel the step calls there) and its 1-based line. */
