@@ -100,6 +100,30 @@ describe('preprocess', () => {
     expect(preprocess(text, { ...opts, model: 'openmp' }).macros.get('_OPENMP')?.body).toBe('202111'); // OpenMP 5.2 §3.1
   });
 
+  // C11 §6.10.9: `_Pragma("…")` is the `#pragma` line it spells; a macro may produce it.
+  it('reads a `_Pragma` operator, direct or through macros defined in the file or with -D, as the #pragma line it stands for', () => {
+    const text = [
+      '#define PRAGMA(x) _Pragma(#x)',
+      '#define ACC(x) PRAGMA(acc x)',
+      '',
+      '_Pragma("acc parallel loop")',
+      'PRAGMA(omp target teams distribute parallel for)',
+      'ACC(kernels loop)',
+      'OFFLOAD_LOOP',
+      'int after = 1;',
+    ].join('\n');
+    const lines = preprocess(text, { ...opts, model: 'both', defines: new Map([['OFFLOAD_LOOP', '_Pragma("acc loop gang")']]) }).text.split('\n');
+    expect(lines[3].trimEnd()).toBe('#pragma acc parallel loop');
+    expect(lines[4].trimEnd()).toBe('#pragma omp target teams distribute parallel for');
+    expect(lines[5].trimEnd()).toBe('#pragma acc kernels loop');
+    expect(lines[6].trimEnd()).toBe('#pragma acc loop gang');
+    expect(lines[7]).toBe('int after = 1;');
+    // A -D macro alone (no #define in the file holds `_Pragma`).
+    expect(preprocess('OFFLOAD_LOOP\nint x;\n', { ...opts, defines: new Map([['OFFLOAD_LOOP', '_Pragma("acc loop gang")']]) }).text.split('\n')[0].trimEnd()).toBe('#pragma acc loop gang');
+    // Without any macro holding `_Pragma`, a line naming a macro stays as written.
+    expect(preprocess('#define LOOP for\nLOOP (;;) {}\n', opts).text.split('\n')[1]).toBe('LOOP (;;) {}');
+  });
+
   it('chooses the model from the directives the file holds', () => {
     expect(preprocess('#pragma omp target\n', opts).models).toEqual(['openmp']);
     expect(preprocess('#pragma acc kernels\n#pragma omp parallel for\n', opts).models).toEqual(['openacc']);

@@ -153,7 +153,11 @@ class Run {
 
   constructor(private readonly options: PreprocessOptions, private readonly macros: Map<string, MacroDef>) {
     this.fortran = options.language === 'fortran';
+    this.pragmaBodies = [...macros.values()].some((m) => m.body.includes('_Pragma'));
   }
+
+  /** Whether any macro defined so far has `_Pragma` in its body (else no line names a pragma macro). */
+  private pragmaBodies: boolean;
 
   /**
    * Processes one file's lines. For the main file (`at` undefined) it returns the blanked lines;
@@ -168,6 +172,11 @@ class Run {
     let inComment = false;
     for (let i = 0; i < lines.length; i++) {
       const first = lines[i];
+      // An empty line (most lines of a part's text, core/incremental.ts) only takes the state.
+      if (first.length === 0) {
+        active[i] = live();
+        continue;
+      }
       const directive = !inComment && /^\s*#/.test(first);
       if (!directive) {
         active[i] = live();
@@ -230,7 +239,7 @@ class Run {
    * are left as they are.
    */
   private pragmaOperator(line: string): string | undefined {
-    if (!line.includes('_Pragma') && !this.pragmaMacroIn(line)) return undefined;
+    if (!line.includes('_Pragma') && !(this.pragmaBodies && this.pragmaMacroIn(line))) return undefined;
     const text = line.replace(/\r$/, '');
     const expanded = expandText(text, this.macros).text;
     const m = /^\s*_Pragma\s*\(\s*"((?:[^"\\]|\\.)*)"\s*\)\s*;?\s*$/.exec(expanded);
@@ -344,6 +353,7 @@ class Run {
       if (def) {
         this.macros.delete(def.name);
         this.macros.set(def.name, def);
+        if (def.body.includes('_Pragma')) this.pragmaBodies = true;
       }
     } else if (word === 'undef') {
       this.macros.delete(firstName(rest));
