@@ -65,8 +65,7 @@ function substOnce(e: Expr, lookup: (a: Atom) => Expr | undefined, cache: Map<st
  * atom printed as 'size(a, 1)'.
  */
 function resolver(b: Bindings): (a: Atom) => Expr | undefined {
-  const byText = new Map<string, string>();
-  for (const k of b.keys()) byText.set(stripSpace(k), k);
+  const byText = keysOf(b).byText;
   const state = new Map<string, Expr | 'busy'>();
   const keyOf = (a: Atom): string | undefined => {
     if (a.kind === 'sym' && b.has(a.name)) return a.name;
@@ -103,14 +102,29 @@ export function substitute(e: Expr, b: Bindings): Expr {
   return substOnce(e, resolver(b), new Map());
 }
 
-const callKeyCache = new WeakMap<Bindings, { size: number; calls: boolean }>();
-function hasCallKeys(b: Bindings): boolean {
-  const hit = callKeyCache.get(b);
-  if (hit && hit.size === b.size) return hit.calls;
+/**
+ * What the keys of a bindings map hold, indexed once per map: whether any binds a call text, and
+ * each key by its text without white space. (A map of a thousand file-level sizes is read by
+ * many substitutions; a map that grew or shrank since is indexed again. Maps are built, then read:
+ * none is changed in place to other keys of the same count.)
+ */
+const keyIndexes = new WeakMap<Bindings, { size: number; calls: boolean; byText: Map<string, string> }>();
+function keysOf(b: Bindings): { calls: boolean; byText: Map<string, string> } {
+  const hit = keyIndexes.get(b);
+  if (hit && hit.size === b.size) return hit;
   let calls = false;
-  for (const k of b.keys()) if (k.includes('(')) { calls = true; break; }
-  callKeyCache.set(b, { size: b.size, calls });
-  return calls;
+  const byText = new Map<string, string>();
+  for (const k of b.keys()) {
+    if (!calls && k.includes('(')) calls = true;
+    byText.set(stripSpace(k), k);
+  }
+  const ix = { size: b.size, calls, byText };
+  keyIndexes.set(b, ix);
+  return ix;
+}
+
+function hasCallKeys(b: Bindings): boolean {
+  return keysOf(b).calls;
 }
 
 /** Numeric value, or undefined when a symbol stays unbound or a division by zero remains. */
