@@ -92,13 +92,7 @@ export function substitute(e: Expr, b: Bindings): Expr {
   if (b.size === 0) return e;
   // Nothing to replace: skip the rebuild. Calls can be bound by their text (`size(a,1)`), so the
   // shortcut applies only when no binding names a call.
-  if (!hasCallKeys(b)) {
-    const syms = new Set<string>();
-    collectSymbols(e, syms);
-    let any = false;
-    for (const v of syms) if (b.has(v)) { any = true; break; }
-    if (!any) return e;
-  }
+  if (!hasCallKeys(b) && !bindsAny(e, b)) return e;
   return substOnce(e, resolver(b), new Map());
 }
 
@@ -121,6 +115,16 @@ function keysOf(b: Bindings): { calls: boolean; byText: Map<string, string> } {
   const ix = { size: b.size, calls, byText };
   keyIndexes.set(b, ix);
   return ix;
+}
+
+/** Whether `b` binds any symbol of `e` (read in place, stopping at the first). */
+function bindsAny(e: Expr, b: Bindings): boolean {
+  for (const t of e.terms) {
+    for (const [a] of t.mono.factors) {
+      if (a.kind === 'sym' ? b.has(a.name) : a.args.some((x) => bindsAny(x, b))) return true;
+    }
+  }
+  return false;
 }
 
 function hasCallKeys(b: Bindings): boolean {
