@@ -53,9 +53,10 @@ export class Scheduler {
 
   /**
    * Analyse `uri` after `delayMs` of quiet; a newer call restarts the wait. While typing that is
-   * analysed faster than it comes, each keystroke is analysed at once. `edited`: the text changed, so a running analysis of
-   * the document is stale from now on (not only once the newer job is sent after the debounce).
-   * `lineCount`: the document's line count now (an edit that keeps it is re-analysed by parts).
+   * analysed faster than it comes, each keystroke is analysed at once. `edited`: the text
+   * changed, so a running analysis of the document is stale from now on (not only once the newer
+   * job is sent after the debounce). `lineCount`: the document's line count now (an edit that
+   * keeps it is re-analysed by parts).
    */
   schedule(uri: string, delayMs: number, edited = false, lineCount?: number): void {
     const sameLines = lineCount !== undefined && this.lineCounts.get(uri) === lineCount;

@@ -41,30 +41,46 @@ export function lineDiffEdits(before: string, after: string): TextEdit[] {
   return edits;
 }
 
-/** `check` is called while the translation runs (the editor's job throws there once the view is stale). */
+/** What a refactor needs of a translation. */
 type Translated = Pick<TranslateResult, 'changed' | 'notes' | 'edits'>;
 
+/** A text as translatesAlike compares it, read once per text. */
+interface ReadText {
+  text: string;
+  lines: string[];
+  names: { pointerNames: Set<string>; functionNames: Set<string> };
+  declare: boolean;
+}
+
+const DECLARE = /^[ \t]*#[ \t]*pragma[ \t]+(acc|omp)\b.*\bdeclare\b/m;
+
+function readText(text: string): ReadText {
+  return { text, lines: text.split('\n'), names: translationNames(text, false), declare: DECLARE.test(text) };
+}
+
 /**
- * The last translation of each document (per thread), with the lines it was made from. Typing
+ * The last translation of each document (per thread), with the text it was made from. Typing
  * inside code lines mostly leaves what the translation does unchanged, so a C or C++ text whose
  * lines differ from the kept one only in such lines (translatesAlike) gets the kept result (the
  * same edits and notes) without translating the whole file again.
  */
-const translations = new Map<string, { text: string; key: string; result: Translated }>();
+const translations = new Map<string, { read: ReadText; key: string; result: Translated }>();
 const MAX_TRANSLATIONS = 16;
 
 function translationOf(path: string, text: string, language: 'c' | 'cpp' | 'fortran', to: Target, fixedForm: boolean, check?: () => void): Translated {
   const key = `${language}\n${to}\n${fixedForm}`;
   const kept = translations.get(path);
-  if (kept && kept.key === key && language !== 'fortran' && translatesAlike(kept.text, text, to)) {
-    kept.text = text;
+  if (kept && kept.key === key && language !== 'fortran' && kept.read.text === text) return kept.result;
+  const read = language === 'fortran' ? undefined : readText(text);
+  if (kept && kept.key === key && read && alike(kept.read, read, to)) {
+    kept.read = read;
     return kept.result;
   }
   const t = translateDirectives(text, language, to, { fixedForm, ...(check ? { check } : {}) });
   const result: Translated = { changed: t.changed, notes: t.notes, edits: t.edits };
   translations.delete(path);
   if (translations.size >= MAX_TRANSLATIONS) translations.delete(translations.keys().next().value!);
-  translations.set(path, { text, key, result });
+  if (read) translations.set(path, { read, key, result });
   return result;
 }
 
@@ -75,7 +91,8 @@ const STATEMENT_WORDS = new Set(['for', 'while', 'switch', 'if', 'else', 'do']);
  * The tokens of a C line as translate/structure.ts reads them, with names and numbers made alike
  * (`w`) but for the statement keywords: brackets, braces, semicolons, operators, literals and
  * comment marks stay. (Where a statement ends can turn on any of them: `for (…) + 1 {` is not
- * `for (…) {`.)
+ * `for (…) {`.) Comment marks are kept because they change how the following lines read, which
+ * translate/structure.ts cTokens, reading one line at a time, would not show.
  */
 function structure(l: string): string[] {
   const toks = l.match(/"(?:[^"\\]|\\.)*"?|'(?:[^'\\]|\\.)*'?|\/\*|\*\/|\/\/.*$|[A-Za-z_0-9.]+|\S/g) ?? [];
@@ -90,33 +107,33 @@ function structure(l: string): string[] {
  * neither has a `declare` directive, they declare the same pointers and procedures, they have
  * the same number of lines, and every line that differs is code in both (not a preprocessor line
  * or its continuation, nothing naming either model, an API call, or a pointer when translating
- * to OpenACC) with the same tokens but for names and numbers. tests/translate.test.ts checks this against fresh
- * translations of random edits.
+ * to OpenACC) with the same tokens but for names and numbers. tests/translate.test.ts checks this
+ * against fresh translations of random edits.
  */
 export function translatesAlike(beforeText: string, afterText: string, to: Target): boolean {
-  const declare = /^[ \t]*#[ \t]*pragma[ \t]+(acc|omp)\b.*\bdeclare\b/m;
-  if (declare.test(beforeText) || declare.test(afterText)) return false;
-  const before = beforeText.split('\n');
-  const after = afterText.split('\n');
-  if (before.length !== after.length) return false;
-  const namesBefore = translationNames(beforeText, false);
-  const namesAfter = translationNames(afterText, false);
+  return alike(readText(beforeText), readText(afterText), to);
+}
+
+function alike(before: ReadText, after: ReadText, to: Target): boolean {
+  if (before.declare || after.declare) return false;
+  if (before.lines.length !== after.lines.length) return false;
   const same = (x: Set<string>, y: Set<string>): boolean => x.size === y.size && [...x].every((n) => y.has(n));
-  if (!same(namesBefore.pointerNames, namesAfter.pointerNames) || !same(namesBefore.functionNames, namesAfter.functionNames)) return false;
+  if (!same(before.names.pointerNames, after.names.pointerNames) || !same(before.names.functionNames, after.names.functionNames)) return false;
   // Pointers used in a region matter only to OpenMP → OpenACC (its notes on zero-length sections).
-  const pointers = to === 'openacc' ? namesBefore.pointerNames : new Set<string>();
+  const pointers = to === 'openacc' ? before.names.pointerNames : new Set<string>();
   const code = (l: string): boolean => !/^\s*#/.test(l) && !/acc|omp|declare|_Pragma/i.test(l) && !/\\\s*$/.test(l) && !(l.match(/[A-Za-z_]\w*/g) ?? []).some((w) => pointers.has(w));
   const shape = (l: string): string => structure(l).join(' ');
-  for (let i = 0; i < after.length; i++) {
-    const x = before[i];
-    const y = after[i];
+  for (let i = 0; i < after.lines.length; i++) {
+    const x = before.lines[i];
+    const y = after.lines[i];
     if (x === y) continue;
     if (!code(x) || !code(y) || shape(x) !== shape(y)) return false;
-    if (i > 0 && (/\\\s*$/.test(before[i - 1]) || /\\\s*$/.test(after[i - 1]))) return false;
+    if (i > 0 && (/\\\s*$/.test(before.lines[i - 1]) || /\\\s*$/.test(after.lines[i - 1]))) return false;
   }
   return true;
 }
 
+/** `check` is called while the translation runs (the editor's job throws there once the view is stale). */
 export function buildRefactors(a: FileAnalysis, text: string, check?: () => void): RefactorEntry[] {
   const out: RefactorEntry[] = [];
   if (a.port && a.port.text !== text) {
